@@ -1,0 +1,21 @@
+//! # yawdyn
+//!
+//! A vehicle-handling simulator for chassis and vehicle-dynamics engineers:
+//! a nonlinear two-track model with Magic Formula tyres, driveline torque
+//! split, differentials, brakes and aero, driven by manoeuvres written as Rhai
+//! scripts, with results in self-describing HDF5 files.
+//!
+//! The modules follow the data flow:
+//! parameters ([`params`]) → tyre ([`tyre`]) → vehicle model ([`model`]) →
+//! integration ([`sim`]) → manoeuvre scripts and drivers ([`manoeuvre`]) →
+//! results files ([`results`]) → analysis ([`analysis`]) → plots ([`plot`]).
+//!
+//! Axes follow ISO 8855: x forward, y left, z up; all quantities are SI unless
+//! a name says otherwise (`_deg`, `_kph`).
+#![warn(missing_docs)]
+
+pub mod analysis;
+pub mod params;
+pub mod plot;
+pub mod results;
+pub mod tyre;

@@ -1,0 +1,6 @@
+//! Vehicle parameter files: the raw TOML schema, validation into the checked
+//! [`Vehicle`](crate::params) the physics uses, and dotted-path overrides.
+
+mod issue;
+
+pub use issue::{ParamIssue, ParamError};
