@@ -17,7 +17,11 @@ pub struct ParamIssue {
 impl ParamIssue {
     /// A problem at `path` with `message`; the line is filled in later from the file text.
     pub fn new(path: impl Into<String>, message: impl Into<String>) -> Self {
-        Self { path: path.into(), line: None, message: message.into() }
+        Self {
+            path: path.into(),
+            line: None,
+            message: message.into(),
+        }
     }
 }
 
@@ -52,5 +56,9 @@ pub enum ParamError {
 }
 
 fn list(issues: &[ParamIssue]) -> String {
-    issues.iter().map(|i| format!("  {i}")).collect::<Vec<_>>().join("\n")
+    issues
+        .iter()
+        .map(|i| format!("  {i}"))
+        .collect::<Vec<_>>()
+        .join("\n")
 }

@@ -3,4 +3,4 @@
 
 mod issue;
 
-pub use issue::{ParamIssue, ParamError};
+pub use issue::{ParamError, ParamIssue};
