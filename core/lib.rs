@@ -15,7 +15,10 @@
 #![warn(missing_docs)]
 
 pub mod analysis;
+pub mod bench;
+pub mod model;
 pub mod params;
 pub mod plot;
+pub mod sim;
 pub mod results;
 pub mod tyre;

@@ -1,0 +1,356 @@
+//! Reading a vehicle file: every problem at once, each with its key path and line.
+//!
+//! Strategy: parse the TOML text, apply `--set` overrides, then deserialize
+//! with serde (the schema's single source of truth) while tracking the key path
+//! of each error. After each error the offending entry is patched (an unknown
+//! key removed, a missing or mistyped one replaced by a neutral placeholder) and
+//! deserialization runs again, so one pass reports every schema problem. The
+//! physical checks of [`Vehicle::from_file`] then run on the deserialized file.
+
+use std::path::Path;
+
+use super::file::VehicleFile;
+use super::issue::{ParamError, ParamIssue};
+use super::vehicle::Vehicle;
+
+/// Pseudo file name used for problems in `--set` overrides.
+pub const OVERRIDE_SOURCE: &str = "<--set>";
+
+/// How many patch-and-retry rounds before giving up (far more than any real file needs).
+const MAX_ROUNDS: usize = 200;
+
+/// A `key.path=value` override as given on the command line or by a script.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Override {
+    /// Dotted key path, e.g. `drive.front_share`.
+    pub path: String,
+    /// The value, parsed as a TOML value (`0.3`, `"open"`, `true`).
+    pub value: toml::Value,
+}
+
+impl Override {
+    /// Parses `key.path=value`. A value that is not valid TOML is taken as a string.
+    pub fn parse(text: &str) -> Result<Self, ParamIssue> {
+        let Some((path, value)) = text.split_once('=') else {
+            return Err(ParamIssue::new(text, "an override must look like key.path=value"));
+        };
+        let path = path.trim();
+        if path.is_empty() || path.split('.').any(|s| s.trim().is_empty()) {
+            return Err(ParamIssue::new(path, "empty key in override path"));
+        }
+        let raw = value.trim();
+        let value = parse_value(raw).unwrap_or_else(|| toml::Value::String(raw.to_string()));
+        Ok(Self { path: path.to_string(), value })
+    }
+
+    /// The override as `key=value` text (for provenance).
+    pub fn to_text(&self) -> String {
+        format!("{}={}", self.path, self.value)
+    }
+}
+
+fn parse_value(raw: &str) -> Option<toml::Value> {
+    let doc: toml::Table = toml::from_str(&format!("v = {raw}")).ok()?;
+    doc.get("v").cloned()
+}
+
+/// Loads, overrides and checks a vehicle file.
+pub fn load_vehicle(path: &Path, overrides: &[Override]) -> Result<Vehicle, ParamError> {
+    let text = std::fs::read_to_string(path).map_err(|source| ParamError::Read {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    load_vehicle_text(&text, path, overrides)
+}
+
+/// Like [`load_vehicle`] but from text already in memory (`path` is used in messages).
+pub fn load_vehicle_text(
+    text: &str,
+    path: &Path,
+    overrides: &[Override],
+) -> Result<Vehicle, ParamError> {
+    let invalid = |issues| ParamError::Invalid {
+        path: path.to_path_buf(),
+        issues,
+    };
+    let mut table: toml::Table = match toml::from_str(text) {
+        Ok(t) => t,
+        Err(e) => {
+            let line = e.span().map(|s| line_of_offset(text, s.start));
+            let issue = ParamIssue {
+                path: String::new(),
+                line,
+                message: format!("not valid TOML: {}", e.message()),
+            };
+            return Err(invalid(vec![issue]));
+        }
+    };
+    let lines = KeyLines::new(text);
+    let mut issues = Vec::new();
+    let mut override_paths = Vec::new();
+    for o in overrides {
+        if let Err(msg) = set_path(&mut table, &o.path, o.value.clone()) {
+            issues.push(ParamIssue {
+                path: o.path.clone(),
+                line: None,
+                message: format!("override {}: {msg}", o.to_text()),
+            });
+        } else {
+            override_paths.push(o.path.clone());
+        }
+    }
+    let (file, mut schema_issues) = deserialize_collecting(table);
+    for issue in &mut schema_issues {
+        if override_paths.iter().any(|p| p == &issue.path) {
+            issue.message = format!("(from {OVERRIDE_SOURCE}) {}", issue.message);
+        } else {
+            issue.line = lines.line_of(&issue.path);
+        }
+    }
+    issues.extend(schema_issues);
+    issues.sort_by_key(|i| i.line.unwrap_or(usize::MAX));
+    let Some(file) = file else {
+        return Err(invalid(issues));
+    };
+    if !issues.is_empty() {
+        // Physical checks on a file patched with placeholders would only confuse.
+        return Err(invalid(issues));
+    }
+    match Vehicle::from_file(file) {
+        Ok(v) => Ok(v),
+        Err(mut physical) => {
+            for issue in &mut physical {
+                issue.line = lines.line_of(&issue.path);
+            }
+            physical.sort_by_key(|i| i.line.unwrap_or(usize::MAX));
+            Err(invalid(physical))
+        }
+    }
+}
+
+/// Sets `path` (dotted) in `table` to `value`, creating intermediate tables.
+fn set_path(table: &mut toml::Table, path: &str, value: toml::Value) -> Result<(), String> {
+    let mut parts: Vec<&str> = path.split('.').map(str::trim).collect();
+    let last = parts.pop().ok_or("empty path")?;
+    let mut current = table;
+    for (i, part) in parts.iter().enumerate() {
+        let entry = current
+            .entry(part.to_string())
+            .or_insert_with(|| toml::Value::Table(toml::Table::new()));
+        current = match entry {
+            toml::Value::Table(t) => t,
+            _ => return Err(format!("`{}` is a value, not a table", parts[..=i].join("."))),
+        };
+    }
+    current.insert(last.to_string(), value);
+    Ok(())
+}
+
+fn remove_path(table: &mut toml::Table, path: &[String]) {
+    if let Some((last, parents)) = path.split_last() {
+        if let Some(t) = walk_mut(table, parents) {
+            t.remove(last);
+        }
+    }
+}
+
+fn walk_mut<'a>(table: &'a mut toml::Table, path: &[String]) -> Option<&'a mut toml::Table> {
+    let mut current = table;
+    for part in path {
+        current = match current.get_mut(part)? {
+            toml::Value::Table(t) => t,
+            _ => return None,
+        };
+    }
+    Some(current)
+}
+
+/// Deserializes, patching and retrying after each error; returns the file (if
+/// deserialization finally succeeded) and the issues found on the way.
+fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<ParamIssue>) {
+    let mut issues: Vec<ParamIssue> = Vec::new();
+    // Placeholder candidates tried in turn for a missing or mistyped key.
+    let placeholders = || {
+        [
+            toml::Value::Float(1.0),
+            toml::Value::String(String::new()),
+            toml::Value::Table(toml::Table::new()),
+            toml::Value::Boolean(false),
+            toml::Value::Array(Vec::new()),
+        ]
+    };
+    let mut patched: Vec<(Vec<String>, usize)> = Vec::new();
+    for _ in 0..MAX_ROUNDS {
+        let value = toml::Value::Table(table.clone());
+        let err = match serde_path_to_error::deserialize::<_, VehicleFile>(value) {
+            Ok(file) => return (Some(file), issues),
+            Err(e) => e,
+        };
+        let mut segments: Vec<String> = err
+            .path()
+            .iter()
+            .map(|s| s.to_string())
+            .filter(|s| s != "?")
+            .collect();
+        let message = err.into_inner().message().to_string();
+        if let Some(rest) = message.strip_prefix("unknown field `") {
+            let key = rest.split('`').next().unwrap_or_default().to_string();
+            if segments.last() != Some(&key) {
+                segments.push(key.clone());
+            }
+            let expected = backticked(rest.split_once("expected").map_or("", |x| x.1));
+            issues.push(ParamIssue::new(
+                segments.join("."),
+                format!("unknown key `{key}`{}", suggestion(&key, &expected)),
+            ));
+            remove_path(&mut table, &segments);
+            continue;
+        }
+        if let Some(rest) = message.strip_prefix("missing field `") {
+            let key = rest.split('`').next().unwrap_or_default().to_string();
+            segments.push(key.clone());
+            if !patched.iter().any(|(p, _)| p == &segments) {
+                issues.push(ParamIssue::new(segments.join("."), format!("missing key `{key}`")));
+            }
+        } else if !patched.iter().any(|(p, _)| p == &segments) {
+            let friendly = message
+                .replace("invalid type:", "wrong type:")
+                .replace("unknown variant", "unknown value");
+            let expected = backticked(message.split_once("expected").map_or("", |x| x.1));
+            let bad = message.split('`').nth(1).unwrap_or_default().to_string();
+            let hint = if message.starts_with("unknown variant") {
+                suggestion(&bad, &expected)
+            } else {
+                String::new()
+            };
+            issues.push(ParamIssue::new(segments.join("."), format!("{friendly}{hint}")));
+        }
+        // Patch with the next placeholder for this path.
+        let round = match patched.iter_mut().find(|(p, _)| p == &segments) {
+            Some((_, n)) => {
+                *n += 1;
+                *n
+            }
+            None => {
+                patched.push((segments.clone(), 0));
+                0
+            }
+        };
+        let Some((last, parents)) = segments.split_last() else {
+            return (None, issues);
+        };
+        let candidates = placeholders();
+        let variant_guess = enum_guess(&message);
+        let value = match (round, variant_guess) {
+            (0, Some(v)) => toml::Value::String(v),
+            (n, _) if n < candidates.len() => candidates[n].clone(),
+            _ => return (None, issues),
+        };
+        match walk_mut(&mut table, parents) {
+            Some(t) => {
+                t.insert(last.clone(), value);
+            }
+            None => return (None, issues),
+        }
+    }
+    (None, issues)
+}
+
+fn enum_guess(message: &str) -> Option<String> {
+    if message.starts_with("unknown variant") {
+        backticked(message.split_once("expected").map_or("", |x| x.1))
+            .into_iter()
+            .next()
+    } else {
+        None
+    }
+}
+
+/// The `backticked` words of a serde "expected one of `a`, `b`" list.
+fn backticked(text: &str) -> Vec<String> {
+    text.split('`')
+        .enumerate()
+        .filter(|(i, _)| i % 2 == 1)
+        .map(|(_, s)| s.to_string())
+        .collect()
+}
+
+/// "; did you mean `x`?" for the closest candidate, plus the full list when short.
+pub(crate) fn suggestion(key: &str, candidates: &[String]) -> String {
+    let mut scored: Vec<(f64, &String)> = candidates
+        .iter()
+        .map(|c| (strsim::jaro_winkler(key, c), c))
+        .collect();
+    scored.sort_by(|a, b| b.0.total_cmp(&a.0));
+    let close: Vec<String> = scored
+        .iter()
+        .filter(|(s, _)| *s > 0.7)
+        .take(3)
+        .map(|(_, c)| format!("`{c}`"))
+        .collect();
+    if close.is_empty() {
+        if candidates.is_empty() {
+            String::new()
+        } else {
+            let all: Vec<String> = candidates.iter().map(|c| format!("`{c}`")).collect();
+            format!("; known keys here: {}", all.join(", "))
+        }
+    } else {
+        format!("; did you mean {}?", close.join(" or "))
+    }
+}
+
+fn line_of_offset(text: &str, offset: usize) -> usize {
+    text[..offset.min(text.len())].matches('\n').count() + 1
+}
+
+/// Where each dotted key path appears in the file text (a light scan of
+/// table headers and `key =` lines, enough for well-formed files).
+struct KeyLines {
+    entries: Vec<(String, usize)>,
+}
+
+impl KeyLines {
+    fn new(text: &str) -> Self {
+        let mut entries = Vec::new();
+        let mut table = String::new();
+        for (n, raw) in text.lines().enumerate() {
+            let line = raw.trim();
+            if line.starts_with('#') || line.is_empty() {
+                continue;
+            }
+            if let Some(inner) = line.strip_prefix('[') {
+                let name = inner.trim_start_matches('[');
+                let name = name.split(']').next().unwrap_or_default();
+                table = clean_key(name);
+                entries.push((table.clone(), n + 1));
+            } else if let Some((key, _)) = line.split_once('=') {
+                let key = clean_key(key);
+                let full = if table.is_empty() { key } else { format!("{table}.{key}") };
+                entries.push((full, n + 1));
+            }
+        }
+        Self { entries }
+    }
+
+    /// The line of `path`, or of its nearest parent that appears in the file.
+    fn line_of(&self, path: &str) -> Option<usize> {
+        let mut p = path.to_string();
+        loop {
+            if let Some((_, line)) = self.entries.iter().find(|(k, _)| *k == p) {
+                return Some(*line);
+            }
+            match p.rfind('.') {
+                Some(i) => p.truncate(i),
+                None => return None,
+            }
+        }
+    }
+}
+
+fn clean_key(key: &str) -> String {
+    key.split('.')
+        .map(|s| s.trim().trim_matches('"').trim_matches('\''))
+        .collect::<Vec<_>>()
+        .join(".")
+}
