@@ -1,1 +1,21 @@
-//! (placeholder, filled in by its owner)
+//! Tyre forces at the contact patch: the Pacejka Magic Formula (MF 5.2
+//! coefficient set) for pure longitudinal and pure lateral slip, and their
+//! combination by a friction ellipse (default) or the MF weighting functions.
+//!
+//! This module owns the map from given slips (slip ratio κ, slip angle α),
+//! camber γ, wheel load Fz and road friction scale to the forces Fx, Fy in the
+//! wheel's ISO 8855 axes (x forward, y left), and the coefficient table read
+//! from the vehicle file with its plausibility check. It does not compute the
+//! slips from the wheel and body velocities, apply relaxation lengths, or
+//! integrate wheel spin: those live in the vehicle model. It allocates nothing
+//! and does no I/O, so it can be called inside the ODE right-hand side.
+//!
+//! Source for the equations: Pacejka, *Tire and Vehicle Dynamics* (2nd ed.
+//! 2006), ch. 4; the MF 5.2 details are written from memory (see each doc
+//! comment).
+
+mod coefficients;
+mod model;
+
+pub use coefficients::MagicFormulaCoefficients;
+pub use model::{CombinedSlip, TyreForce, TyreModel};
