@@ -402,3 +402,117 @@ impl MagicFormulaCoefficients {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const PATH: &str = "tyre.front.magic_formula";
+
+    fn valid() -> MagicFormulaCoefficients {
+        toml::from_str(
+            "nominal_load_n = 4500.0\npCx1 = 1.6\npDx1 = 1.0\npDx2 = -0.05\npKx1 = 20.0\n\
+             pEx1 = 0.3\npEx4 = 0.5\npCy1 = 1.3\npDy1 = 0.95\npEy1 = -0.5\npEy3 = 0.2\n\
+             pKy1 = 17.0\npKy2 = 1.8\n",
+        )
+        .expect("valid set parses")
+    }
+
+    fn paths(mf: &MagicFormulaCoefficients) -> Vec<String> {
+        let mut issues = Vec::new();
+        mf.check(PATH, &mut issues);
+        issues.into_iter().map(|i| i.path).collect()
+    }
+
+    /// Schema: published MF 5.2 key names, defaults as documented, unknown and
+    /// missing keys rejected.
+    #[test]
+    fn toml_keys_and_defaults() {
+        let mf = valid();
+        assert_eq!(mf.p_cx1, 1.6);
+        assert_eq!(mf.p_ey3, 0.2);
+        assert_eq!(
+            (mf.lambda_fz0, mf.lambda_mux, mf.lambda_muy),
+            (1.0, 1.0, 1.0)
+        );
+        assert_eq!(
+            (mf.r_bx1, mf.r_cx1, mf.r_by1, mf.r_cy1),
+            (12.0, 1.0, 10.0, 1.0)
+        );
+        assert_eq!((mf.p_hy3, mf.r_vy6), (0.0, 0.0));
+        // Round trip through TOML keeps every value.
+        let text = toml::to_string(&mf).unwrap();
+        assert!(text.contains("pKy2 = 1.8"), "{text}");
+        let back: MagicFormulaCoefficients = toml::from_str(&text).unwrap();
+        assert_eq!(back, mf);
+        // Unknown key (a typo) is an error, naming the key.
+        let err =
+            toml::from_str::<MagicFormulaCoefficients>(&format!("{text}pKy9 = 1.0\n")).unwrap_err();
+        assert!(err.to_string().contains("pKy9"), "{err}");
+        // A required key missing is an error, naming the key.
+        let without: String = text
+            .lines()
+            .filter(|l| !l.starts_with("pKy1 "))
+            .map(|l| format!("{l}\n"))
+            .collect();
+        let err = toml::from_str::<MagicFormulaCoefficients>(&without).unwrap_err();
+        assert!(err.to_string().contains("pKy1"), "{err}");
+    }
+
+    #[test]
+    fn valid_set_has_no_issues() {
+        assert!(paths(&valid()).is_empty());
+    }
+
+    /// Each class of impossible value is flagged once, at its own key path.
+    /// Ranges: Pacejka ch. 4 identities (peak D for C ≥ 1, large-slip value
+    /// D·sin(C·π/2)), see `check`.
+    #[test]
+    fn check_flags_each_class_at_its_key() {
+        type Edit = fn(&mut MagicFormulaCoefficients);
+        let cases: [(&str, Edit); 22] = [
+            ("nominal_load_n", |m| m.nominal_load_n = 0.0),
+            ("nominal_load_n", |m| m.nominal_load_n = -4500.0),
+            ("lambda_fz0", |m| m.lambda_fz0 = 0.0),
+            ("lambda_mux", |m| m.lambda_mux = -1.0),
+            ("lambda_muy", |m| m.lambda_muy = 0.0),
+            ("pCx1", |m| m.p_cx1 = 0.9),
+            ("pCx1", |m| m.p_cx1 = 2.0),
+            ("pCy1", |m| m.p_cy1 = 2.5),
+            ("pDx1", |m| m.p_dx1 = 0.0),
+            ("pDy1", |m| m.p_dy1 = -0.9),
+            ("pKx1", |m| m.p_kx1 = 0.0),
+            ("pKy1", |m| m.p_ky1 = -17.0),
+            ("pKy2", |m| m.p_ky2 = 0.0),
+            ("rBx1", |m| m.r_bx1 = 0.0),
+            ("rBy1", |m| m.r_by1 = -3.0),
+            ("pEx1", |m| m.p_ex1 = 1.2),
+            ("pEy1", |m| m.p_ey1 = 1.01),
+            ("rEy1", |m| m.r_ey1 = 2.0),
+            ("pEx4", |m| m.p_ex4 = 3.0),
+            ("rCx1", |m| m.r_cx1 = 1.2),
+            ("rCy1", |m| m.r_cy1 = 0.0),
+            ("pHy3", |m| m.p_hy3 = f64::NAN),
+        ];
+        for (key, edit) in cases {
+            let mut mf = valid();
+            edit(&mut mf);
+            assert_eq!(paths(&mf), vec![format!("{PATH}.{key}")], "{key}");
+        }
+        // Non-finite values in checked fields are reported once, as non-finite.
+        let mut mf = valid();
+        mf.p_cx1 = f64::INFINITY;
+        mf.nominal_load_n = f64::NEG_INFINITY;
+        let mut issues = Vec::new();
+        mf.check(PATH, &mut issues);
+        assert_eq!(issues.len(), 2, "{issues:?}");
+        assert!(issues.iter().all(|i| i.message.contains("finite")));
+        // Boundary values that are allowed.
+        let mut mf = valid();
+        mf.p_cx1 = 1.0;
+        mf.p_ex1 = 1.0;
+        mf.p_ex4 = 0.0;
+        mf.r_cy1 = 1.0;
+        assert!(paths(&mf).is_empty());
+    }
+}
