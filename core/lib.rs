@@ -19,6 +19,6 @@ pub mod bench;
 pub mod model;
 pub mod params;
 pub mod plot;
-pub mod sim;
 pub mod results;
+pub mod sim;
 pub mod tyre;

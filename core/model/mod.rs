@@ -23,8 +23,8 @@ mod state;
 
 pub use state::*;
 
-use crate::params::{DriveUnit, FRONT, GRAVITY, REAR, Vehicle};
 use crate::params::DifferentialKind;
+use crate::params::{DriveUnit, FRONT, GRAVITY, REAR, Vehicle};
 
 /// Below this contact-patch speed the slip equations use this speed instead, m/s.
 ///
@@ -88,8 +88,9 @@ pub struct WheelOutput {
     pub fy: f64,
     /// Slip ratio used by the tyre (relaxed), 1.
     pub slip_ratio: f64,
-    /// Slip angle used by the tyre (relaxed), rad.
-    pub slip_angle: f64,
+    /// tan of the slip angle used by the tyre (relaxed), 1 (the channel
+    /// `slip_angle` is its arctangent; kept as tan to spare the inner loop).
+    pub tan_slip_angle: f64,
     /// Road-wheel steer angle, rad.
     pub steer_angle: f64,
     /// Drive torque applied to the wheel, N·m.
@@ -289,12 +290,16 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
         let omega = x[WHEEL_SPEED + i];
         let kappa = x[SLIP_RATIO + i];
         let tan_alpha = x[SLIP_ANGLE + i];
-        let alpha = tan_alpha.atan();
+
         // Camber in tyre axes: the left wheel's static camber as given, the right mirrored.
-        let gamma = if i % 2 == 0 { tyre.camber } else { -tyre.camber };
-        let force = tyre.model.combined(
+        let gamma = if i % 2 == 0 {
+            tyre.camber
+        } else {
+            -tyre.camber
+        };
+        let force = tyre.model.combined_tan(
             kappa,
-            alpha,
+            tan_alpha,
             gamma,
             fz[i],
             v.road_friction,
@@ -321,7 +326,7 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
             fx: force.fx,
             fy: force.fy,
             slip_ratio: kappa,
-            slip_angle: alpha,
+            tan_slip_angle: tan_alpha,
             steer_angle: steer[i],
             drive_torque: drive_i,
             brake_torque: brake,
@@ -345,10 +350,12 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
     let roll_stiffness = v.roll_stiffness[FRONT] + v.roll_stiffness[REAR];
     let roll_damping = v.roll_damping[FRONT] + v.roll_damping[REAR];
     d[ROLL] = roll_rate;
-    d[ROLL_RATE] = (-m * ay * arm - roll_stiffness * roll - roll_damping * roll_rate) / v.roll_inertia;
+    d[ROLL_RATE] =
+        (-m * ay * arm - roll_stiffness * roll - roll_damping * roll_rate) / v.roll_inertia;
     d[PITCH] = pitch_rate;
-    d[PITCH_RATE] = (-m * ax * v.cg_height - v.pitch_stiffness * pitch - v.pitch_damping * pitch_rate)
-        / v.pitch_inertia;
+    d[PITCH_RATE] =
+        (-m * ax * v.cg_height - v.pitch_stiffness * pitch - v.pitch_damping * pitch_rate)
+            / v.pitch_inertia;
     d[AY_GEOMETRIC] = (ay - ay_geo) / AY_GEOMETRIC_TIME_CONSTANT;
 
     Evaluation {

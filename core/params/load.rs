@@ -32,7 +32,10 @@ impl Override {
     /// Parses `key.path=value`. A value that is not valid TOML is taken as a string.
     pub fn parse(text: &str) -> Result<Self, ParamIssue> {
         let Some((path, value)) = text.split_once('=') else {
-            return Err(ParamIssue::new(text, "an override must look like key.path=value"));
+            return Err(ParamIssue::new(
+                text,
+                "an override must look like key.path=value",
+            ));
         };
         let path = path.trim();
         if path.is_empty() || path.split('.').any(|s| s.trim().is_empty()) {
@@ -40,7 +43,10 @@ impl Override {
         }
         let raw = value.trim();
         let value = parse_value(raw).unwrap_or_else(|| toml::Value::String(raw.to_string()));
-        Ok(Self { path: path.to_string(), value })
+        Ok(Self {
+            path: path.to_string(),
+            value,
+        })
     }
 
     /// The override as `key=value` text (for provenance).
@@ -139,7 +145,12 @@ fn set_path(table: &mut toml::Table, path: &str, value: toml::Value) -> Result<(
             .or_insert_with(|| toml::Value::Table(toml::Table::new()));
         current = match entry {
             toml::Value::Table(t) => t,
-            _ => return Err(format!("`{}` is a value, not a table", parts[..=i].join("."))),
+            _ => {
+                return Err(format!(
+                    "`{}` is a value, not a table",
+                    parts[..=i].join(".")
+                ));
+            }
         };
     }
     current.insert(last.to_string(), value);
@@ -210,7 +221,10 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
             let key = rest.split('`').next().unwrap_or_default().to_string();
             segments.push(key.clone());
             if !patched.iter().any(|(p, _)| p == &segments) {
-                issues.push(ParamIssue::new(segments.join("."), format!("missing key `{key}`")));
+                issues.push(ParamIssue::new(
+                    segments.join("."),
+                    format!("missing key `{key}`"),
+                ));
             }
         } else if !patched.iter().any(|(p, _)| p == &segments) {
             let friendly = message
@@ -223,7 +237,10 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
             } else {
                 String::new()
             };
-            issues.push(ParamIssue::new(segments.join("."), format!("{friendly}{hint}")));
+            issues.push(ParamIssue::new(
+                segments.join("."),
+                format!("{friendly}{hint}"),
+            ));
         }
         // Patch with the next placeholder for this path.
         let round = match patched.iter_mut().find(|(p, _)| p == &segments) {
@@ -326,7 +343,11 @@ impl KeyLines {
                 entries.push((table.clone(), n + 1));
             } else if let Some((key, _)) = line.split_once('=') {
                 let key = clean_key(key);
-                let full = if table.is_empty() { key } else { format!("{table}.{key}") };
+                let full = if table.is_empty() {
+                    key
+                } else {
+                    format!("{table}.{key}")
+                };
                 entries.push((full, n + 1));
             }
         }

@@ -141,7 +141,10 @@ impl Vehicle {
         let mut issues = Vec::new();
         let mut positive = |path: &str, value: f64| {
             if !(value.is_finite() && value > 0.0) {
-                issues.push(ParamIssue::new(path, format!("must be positive, got {value}")));
+                issues.push(ParamIssue::new(
+                    path,
+                    format!("must be positive, got {value}"),
+                ));
             }
         };
         let c = &file.chassis;
@@ -168,7 +171,10 @@ impl Vehicle {
                 ("rolling_radius", t.rolling_radius),
                 ("wheel_inertia", t.wheel_inertia),
                 ("relaxation_length_lateral", t.relaxation_length_lateral),
-                ("relaxation_length_longitudinal", t.relaxation_length_longitudinal),
+                (
+                    "relaxation_length_longitudinal",
+                    t.relaxation_length_longitudinal,
+                ),
             ] {
                 positive(&format!("tyre.{axle}.{k}"), v);
             }
@@ -187,7 +193,10 @@ impl Vehicle {
         }
         let mut nonneg = |path: &str, value: f64| {
             if !(value.is_finite() && value >= 0.0) {
-                issues.push(ParamIssue::new(path, format!("must be zero or positive, got {value}")));
+                issues.push(ParamIssue::new(
+                    path,
+                    format!("must be zero or positive, got {value}"),
+                ));
             }
         };
         for (k, v) in [
@@ -200,33 +209,57 @@ impl Vehicle {
         nonneg("aero.drag_area", file.aero.drag_area);
         nonneg("brakes.max_torque", file.brakes.max_torque);
         for (axle, t) in [("front", &file.tyre.front), ("rear", &file.tyre.rear)] {
-            nonneg(&format!("tyre.{axle}.rolling_resistance"), t.rolling_resistance);
+            nonneg(
+                &format!("tyre.{axle}.rolling_resistance"),
+                t.rolling_resistance,
+            );
         }
         for (axle, unit) in [("front", &file.drive.front), ("rear", &file.drive.rear)] {
             if let Some(u) = unit {
                 let p = format!("drive.{axle}.differential");
                 nonneg(&format!("{p}.preload"), u.differential.preload);
                 nonneg(&format!("{p}.locking"), u.differential.locking);
-                nonneg(&format!("{p}.coupling_damping"), u.differential.coupling_damping);
+                nonneg(
+                    &format!("{p}.coupling_damping"),
+                    u.differential.coupling_damping,
+                );
             }
         }
         let mut within = |path: &str, value: f64, lo: f64, hi: f64| {
             if !(value.is_finite() && value >= lo && value <= hi) {
-                issues.push(ParamIssue::new(path, format!("must lie in [{lo}, {hi}], got {value}")));
+                issues.push(ParamIssue::new(
+                    path,
+                    format!("must lie in [{lo}, {hi}], got {value}"),
+                ));
             }
         };
         within("drive.front_share", file.drive.front_share, 0.0, 1.0);
         within("brakes.front_bias", file.brakes.front_bias, 0.0, 1.0);
         within("steering.ackermann", file.steering.ackermann, 0.0, 1.0);
-        within("steering.toe_front_deg", file.steering.toe_front_deg, -5.0, 5.0);
-        within("steering.toe_rear_deg", file.steering.toe_rear_deg, -5.0, 5.0);
+        within(
+            "steering.toe_front_deg",
+            file.steering.toe_front_deg,
+            -5.0,
+            5.0,
+        );
+        within(
+            "steering.toe_rear_deg",
+            file.steering.toe_rear_deg,
+            -5.0,
+            5.0,
+        );
         for (axle, unit) in [("front", &file.drive.front), ("rear", &file.drive.rear)] {
             if let Some(u) = unit {
                 within(&format!("drive.{axle}.efficiency"), u.efficiency, 0.0, 1.0);
             }
         }
         for (axle, t) in [("front", &file.tyre.front), ("rear", &file.tyre.rear)] {
-            within(&format!("tyre.{axle}.camber_deg"), t.camber_deg, -10.0, 10.0);
+            within(
+                &format!("tyre.{axle}.camber_deg"),
+                t.camber_deg,
+                -10.0,
+                10.0,
+            );
         }
         if c.wheelbase > 0.0 && !(c.cg_to_front_axle > 0.0 && c.cg_to_front_axle < c.wheelbase) {
             issues.push(ParamIssue::new(
@@ -244,7 +277,10 @@ impl Vehicle {
             if !(rc.is_finite() && rc < c.cg_height && rc > -c.cg_height) {
                 issues.push(ParamIssue::new(
                     format!("chassis.{k}"),
-                    format!("roll centre must lie below the CG height {} (got {rc})", c.cg_height),
+                    format!(
+                        "roll centre must lie below the CG height {} (got {rc})",
+                        c.cg_height
+                    ),
                 ));
             }
         }
@@ -258,17 +294,29 @@ impl Vehicle {
         }
         if let Some(hd) = file.aero.drag_height {
             if !(hd.is_finite() && hd >= 0.0) {
-                issues.push(ParamIssue::new("aero.drag_height", format!("must be ≥ 0, got {hd}")));
+                issues.push(ParamIssue::new(
+                    "aero.drag_height",
+                    format!("must be ≥ 0, got {hd}"),
+                ));
             }
         }
         if !file.aero.downforce_area.is_finite() {
             issues.push(ParamIssue::new("aero.downforce_area", "must be finite"));
         }
         if file.drive.front.is_none() && file.drive.rear.is_none() {
-            issues.push(ParamIssue::new("drive", "needs a drive unit on at least one axle ([drive.front] or [drive.rear])"));
+            issues.push(ParamIssue::new(
+                "drive",
+                "needs a drive unit on at least one axle ([drive.front] or [drive.rear])",
+            ));
         }
-        file.tyre.front.magic_formula.check("tyre.front.magic_formula", &mut issues);
-        file.tyre.rear.magic_formula.check("tyre.rear.magic_formula", &mut issues);
+        file.tyre
+            .front
+            .magic_formula
+            .check("tyre.front.magic_formula", &mut issues);
+        file.tyre
+            .rear
+            .magic_formula
+            .check("tyre.rear.magic_formula", &mut issues);
         if !issues.is_empty() {
             return Err(issues);
         }
@@ -314,7 +362,10 @@ impl Vehicle {
             pitch_damping: c.pitch_damping,
             steering_ratio: file.steering.ratio,
             ackermann: file.steering.ackermann,
-            toe: [deg(file.steering.toe_front_deg), deg(file.steering.toe_rear_deg)],
+            toe: [
+                deg(file.steering.toe_front_deg),
+                deg(file.steering.toe_rear_deg),
+            ],
             air_density: file.aero.air_density,
             drag_area: file.aero.drag_area,
             downforce_area: file.aero.downforce_area,

@@ -16,35 +16,107 @@ pub struct ChannelInfo {
 }
 
 const fn ch(name: &'static str, unit: &'static str, description: &'static str) -> ChannelInfo {
-    ChannelInfo { name, unit, description }
+    ChannelInfo {
+        name,
+        unit,
+        description,
+    }
 }
 
 /// Channels that are not per wheel.
 const BODY: [ChannelInfo; 24] = [
     ch("x", "m", "global x position of the CG"),
     ch("y", "m", "global y position of the CG"),
-    ch("yaw", "rad", "heading angle (ISO 8855, positive anticlockwise from above)"),
+    ch(
+        "yaw",
+        "rad",
+        "heading angle (ISO 8855, positive anticlockwise from above)",
+    ),
     ch("vx", "m/s", "longitudinal velocity of the CG in body axes"),
-    ch("vy", "m/s", "lateral velocity of the CG in body axes (positive left)"),
+    ch(
+        "vy",
+        "m/s",
+        "lateral velocity of the CG in body axes (positive left)",
+    ),
     ch("speed", "m/s", "magnitude of the CG velocity"),
-    ch("yaw_rate", "rad/s", "yaw rate (positive anticlockwise from above)"),
-    ch("ax", "m/s^2", "longitudinal acceleration of the CG in body axes"),
-    ch("ay", "m/s^2", "lateral acceleration of the CG in body axes (positive left)"),
-    ch("sideslip", "rad", "vehicle sideslip angle at the CG, atan(vy/vx)"),
-    ch("path_curvature", "1/m", "curvature of the CG path (positive turning left)"),
-    ch("roll", "rad", "body roll angle (ISO 8855, positive right side down)"),
-    ch("pitch", "rad", "body pitch angle (ISO 8855, positive nose down)"),
-    ch("steer_wheel_angle", "rad", "steering-wheel angle (positive left)"),
+    ch(
+        "yaw_rate",
+        "rad/s",
+        "yaw rate (positive anticlockwise from above)",
+    ),
+    ch(
+        "ax",
+        "m/s^2",
+        "longitudinal acceleration of the CG in body axes",
+    ),
+    ch(
+        "ay",
+        "m/s^2",
+        "lateral acceleration of the CG in body axes (positive left)",
+    ),
+    ch(
+        "sideslip",
+        "rad",
+        "vehicle sideslip angle at the CG, atan(vy/vx)",
+    ),
+    ch(
+        "path_curvature",
+        "1/m",
+        "curvature of the CG path (positive turning left)",
+    ),
+    ch(
+        "roll",
+        "rad",
+        "body roll angle (ISO 8855, positive right side down)",
+    ),
+    ch(
+        "pitch",
+        "rad",
+        "body pitch angle (ISO 8855, positive nose down)",
+    ),
+    ch(
+        "steer_wheel_angle",
+        "rad",
+        "steering-wheel angle (positive left)",
+    ),
     ch("drive_request", "1", "drive request, 0..1"),
     ch("brake_request", "1", "brake request, 0..1"),
-    ch("front_share", "1", "front share of the drive request, 0 = all rear"),
-    ch("drag_force", "N", "aerodynamic drag along body x (negative when moving forward)"),
+    ch(
+        "front_share",
+        "1",
+        "front share of the drive request, 0 = all rear",
+    ),
+    ch(
+        "drag_force",
+        "N",
+        "aerodynamic drag along body x (negative when moving forward)",
+    ),
     ch("downforce", "N", "total aerodynamic downforce"),
-    ch("drive_torque_front_axle", "N*m", "drive torque at the front wheels, both wheels"),
-    ch("drive_torque_rear_axle", "N*m", "drive torque at the rear wheels, both wheels"),
-    ch("available_torque_front_axle", "N*m", "drive torque the front unit could give now"),
-    ch("available_torque_rear_axle", "N*m", "drive torque the rear unit could give now"),
-    ch("lateral_offset", "m", "lateral displacement of the CG from the initial heading line"),
+    ch(
+        "drive_torque_front_axle",
+        "N*m",
+        "drive torque at the front wheels, both wheels",
+    ),
+    ch(
+        "drive_torque_rear_axle",
+        "N*m",
+        "drive torque at the rear wheels, both wheels",
+    ),
+    ch(
+        "available_torque_front_axle",
+        "N*m",
+        "drive torque the front unit could give now",
+    ),
+    ch(
+        "available_torque_rear_axle",
+        "N*m",
+        "drive torque the rear unit could give now",
+    ),
+    ch(
+        "lateral_offset",
+        "m",
+        "lateral displacement of the CG from the initial heading line",
+    ),
 ];
 
 /// Per-wheel channel stems; each is recorded as `<stem>_<wheel>`.
@@ -52,10 +124,22 @@ const WHEEL: [ChannelInfo; 9] = [
     ch("fz", "N", "vertical tyre load"),
     ch("fx", "N", "longitudinal tyre force in wheel axes"),
     ch("fy", "N", "lateral tyre force in wheel axes"),
-    ch("slip_ratio", "1", "longitudinal slip ratio (positive driving)"),
-    ch("slip_angle", "rad", "tyre slip angle (positive gives leftward force)"),
+    ch(
+        "slip_ratio",
+        "1",
+        "longitudinal slip ratio (positive driving)",
+    ),
+    ch(
+        "slip_angle",
+        "rad",
+        "tyre slip angle (positive gives leftward force)",
+    ),
     ch("wheel_speed", "rad/s", "wheel spin speed"),
-    ch("steer_angle", "rad", "road-wheel steer angle (positive left)"),
+    ch(
+        "steer_angle",
+        "rad",
+        "road-wheel steer angle (positive left)",
+    ),
     ch("drive_torque", "N*m", "drive torque applied to the wheel"),
     ch("brake_torque", "N*m", "brake torque applied to the wheel"),
 ];
@@ -132,7 +216,7 @@ pub fn sample(x: &State, c: &Commands, e: &Evaluation, initial: (f64, f64, f64))
                 1 => w.fx,
                 2 => w.fy,
                 3 => w.slip_ratio,
-                4 => w.slip_angle,
+                4 => w.tan_slip_angle.atan(),
                 5 => x[WHEEL_SPEED + i],
                 6 => w.steer_angle,
                 7 => w.drive_torque,

@@ -312,7 +312,8 @@ impl<'v> Simulation<'v> {
     fn solver_error(&self, message: String, time: f64, inputs: &dyn InputSource) -> SimError {
         let c = inputs.commands(time);
         let d = evaluate(self.vehicle, &self.state, &c).derivative;
-        let scale = |i: usize| d[i].abs() / (self.settings.atol + self.settings.rtol * self.state[i].abs());
+        let scale =
+            |i: usize| d[i].abs() / (self.settings.atol + self.settings.rtol * self.state[i].abs());
         let worst = (0..crate::model::N_STATES)
             .max_by(|&a, &b| scale(a).total_cmp(&scale(b)))
             .unwrap_or(0);
@@ -332,7 +333,11 @@ impl<'v> Simulation<'v> {
             bad: &flag,
         };
         let span = t_end - self.time;
-        let h0 = if self.step_hint > 0.0 { self.step_hint.min(span) } else { 0.0 };
+        let h0 = if self.step_hint > 0.0 {
+            self.step_hint.min(span)
+        } else {
+            0.0
+        };
         let mut solver = Dopri5::from_param(
             plant,
             self.time,
@@ -364,7 +369,11 @@ impl<'v> Simulation<'v> {
         let last_t = solver.x_out().last().copied().unwrap_or(self.time);
         drop(solver);
         // Record every sample the solver covered.
-        let covered_end = if bad.is_some() || outcome.is_err() { last_t } else { t_end };
+        let covered_end = if bad.is_some() || outcome.is_err() {
+            last_t
+        } else {
+            t_end
+        };
         while self.sample_time(self.next_sample) <= covered_end + 1e-9 * self.sample_period {
             let ts = self.sample_time(self.next_sample);
             let x = if (ts - t_end).abs() <= 1e-9 * self.sample_period {
@@ -402,7 +411,11 @@ impl<'v> Simulation<'v> {
         while self.time < t_end - 1e-12 {
             let next_sample_t = self.sample_time(self.next_sample);
             let stop = next_sample_t.min(t_end);
-            let stop = if stop <= self.time + 1e-12 { t_end } else { stop };
+            let stop = if stop <= self.time + 1e-12 {
+                t_end
+            } else {
+                stop
+            };
             let flag = Cell::new(None);
             let plant = Plant {
                 vehicle: self.vehicle,
@@ -431,7 +444,11 @@ impl<'v> Simulation<'v> {
                         0.333,
                         6.0,
                         span,
-                        if self.step_hint > 0.0 { self.step_hint.min(span) } else { 0.0 },
+                        if self.step_hint > 0.0 {
+                            self.step_hint.min(span)
+                        } else {
+                            0.0
+                        },
                         1_000_000,
                         u32::MAX,
                         OutputType::Sparse,

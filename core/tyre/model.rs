@@ -167,16 +167,19 @@ impl TyreModel {
     }
 
     /// Kyα = pKy1·Fz0'·sin(2·atan(Fz/(pKy2·Fz0')))·(1 − pKy3·|γ|), floored
-    /// at 0 (MF 5.2, from memory; REFERENCES.md).
+    /// at 0 (MF 5.2, from memory; REFERENCES.md). Evaluated with the identity
+    /// sin(2·atan u) = 2u/(1 + u²), which saves two transcendental calls.
     #[inline]
     fn ky(&self, fz: f64, gamma: f64) -> f64 {
         let m = &self.mf;
         let fz0 = self.nominal_load;
-        (m.p_ky1
-            * fz0
-            * (2.0 * (fz / (m.p_ky2 * fz0)).atan()).sin()
-            * (1.0 - m.p_ky3 * gamma.abs()))
-        .max(0.0)
+        let u = fz / (m.p_ky2 * fz0);
+        let sin_2atan = if u.is_finite() {
+            2.0 * u / (1.0 + u * u)
+        } else {
+            0.0
+        };
+        (m.p_ky1 * fz0 * sin_2atan * (1.0 - m.p_ky3 * gamma.abs())).max(0.0)
     }
 
     /// Pure longitudinal curve at load `fz` > 0 (MF 5.2 as in REFERENCES.md,
@@ -339,13 +342,33 @@ impl TyreModel {
         friction: f64,
         method: CombinedSlip,
     ) -> TyreForce {
+        let tan_alpha = alpha.clamp(-FRAC_PI_2, FRAC_PI_2).tan();
+        self.combined_tan(kappa, tan_alpha, gamma, fz, friction, method)
+    }
+
+    /// [`TyreModel::combined`] with the slip angle given as tan α (-), the
+    /// form the vehicle model's relaxation states carry; saves a tan/atan pair.
+    #[inline]
+    pub fn combined_tan(
+        &self,
+        kappa: f64,
+        tan_alpha: f64,
+        gamma: f64,
+        fz: f64,
+        friction: f64,
+        method: CombinedSlip,
+    ) -> TyreForce {
         if !(fz > 0.0 && friction > 0.0) {
             return TyreForce::default();
         }
         let (fz, dfz) = self.load(fz);
         let kappa = kappa.clamp(-KAPPA_MAX, KAPPA_MAX);
         let gamma = gamma.clamp(-FRAC_PI_2, FRAC_PI_2);
-        let tan_alpha = alpha.clamp(-FRAC_PI_2, FRAC_PI_2).tan();
+        let tan_alpha = if tan_alpha.is_nan() {
+            0.0
+        } else {
+            tan_alpha.clamp(-1e12, 1e12)
+        };
         let long = self.longitudinal_curve(fz, dfz, friction);
         let lat = self.lateral_curve(fz, dfz, gamma, friction);
         match method {
@@ -395,7 +418,8 @@ impl TyreModel {
         };
         let sx = norm(long, x);
         let sy = norm(lat, y);
-        let s = sx.hypot(sy);
+        // sx, sy are clamped, so the plain square root cannot overflow.
+        let s = (sx * sx + sy * sy).sqrt();
         let fx_curve = if sy == 0.0 {
             long.shape(x)
         } else if sx == 0.0 {
@@ -421,7 +445,8 @@ impl TyreModel {
         // curve can give, so a pure-slip result is never cut.
         let (ax, ay) = (long.d + long.sv.abs(), lat.d + lat.sv.abs());
         if long.d > 0.0 && lat.d > 0.0 {
-            let r = (fx / ax).hypot(fy / ay);
+            let (ux, uy) = (fx / ax, fy / ay);
+            let r = (ux * ux + uy * uy).sqrt();
             if r > 1.0 {
                 fx /= r;
                 fy /= r;
