@@ -1,1 +1,190 @@
-//! (placeholder, filled in by its owner)
+//! Engineering plots written as SVG files.
+//!
+//! This module owns the drawing of result plots: time histories and
+//! cross-plots ([`lines`], [`lines_with_markers`]), stacked channels sharing a
+//! time axis ([`stacked`]), the steady-state handling diagram
+//! ([`handling_diagram`]), the friction-usage ("g-g") plot ([`gg`]) and
+//! stability maps ([`heat_map`]). It takes plain data in (numbers, labels)
+//! and writes one SVG file per call; it knows nothing of the vehicle model,
+//! the results file or the analysis that produced the numbers.
+//!
+//! The look is our own: white background, light grid, colour-blind-friendly
+//! line colours (the Okabe–Ito palette, Okabe & Ito, "Color Universal Design",
+//! 2008), axis labels with units, a legend whenever a plot has more than one
+//! series, and a title.
+//!
+//! Bad input never panics: empty data, lengths that do not match and data
+//! with no finite value return a [`PlotError`]. Non-finite points (NaN, ±∞)
+//! are skipped and break the line at that point.
+//!
+//! # Output format
+//!
+//! SVG only. Text is written as SVG `<text>` elements, so no font library is
+//! needed. PNG is not offered: plotters' bitmap backend can only draw text
+//! through a font engine (`ttf`, which needs font-kit and the system font
+//! configuration, or `ab_glyph`, which needs a font file we would have to ship);
+//! without one its text drawing panics. Convert the SVG with any SVG renderer
+//! when a raster image is needed.
+//!
+//! # Example
+//!
+//! ```no_run
+//! use std::path::Path;
+//! use yawdyn::plot::{lines, Axis, Series};
+//!
+//! let t: Vec<f64> = (0..100).map(|i| i as f64 * 0.01).collect();
+//! let yaw_rate = Series::new("yaw rate", t.clone(), t.iter().map(|t| t.sin()).collect());
+//! lines(
+//!     Path::new("yaw_rate.svg"),
+//!     "Step steer, 80 km/h",
+//!     &Axis::new("time [s]"),
+//!     &Axis::new("yaw rate [deg/s]"),
+//!     &[yaw_rate],
+//! )?;
+//! # Ok::<(), yawdyn::plot::PlotError>(())
+//! ```
+
+mod heat_map;
+mod lines;
+mod style;
+mod vehicle;
+
+use std::path::{Path, PathBuf};
+
+pub use heat_map::{HeatMap, heat_map};
+pub use lines::{lines, lines_with_markers, stacked};
+pub use vehicle::{gg, handling_diagram};
+
+/// One named curve: paired x and y samples in the units of the plot's axes.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Series {
+    /// Name shown in the legend, e.g. "front left".
+    pub label: String,
+    /// Abscissa samples, in the unit of the x axis.
+    pub x: Vec<f64>,
+    /// Ordinate samples, in the unit of the y axis; same length as `x`.
+    pub y: Vec<f64>,
+}
+
+impl Series {
+    /// A series from a label and its samples.
+    pub fn new(label: impl Into<String>, x: Vec<f64>, y: Vec<f64>) -> Self {
+        Series {
+            label: label.into(),
+            x,
+            y,
+        }
+    }
+}
+
+/// Description of one plot axis.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Axis {
+    /// Axis title with its unit in brackets, e.g. "lateral acceleration [g]".
+    pub label: String,
+}
+
+impl Axis {
+    /// An axis with the given title (include the unit, e.g. "time [s]").
+    pub fn new(label: impl Into<String>) -> Self {
+        Axis {
+            label: label.into(),
+        }
+    }
+}
+
+/// Why a plot could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum PlotError {
+    /// The SVG file could not be written.
+    #[error("cannot write plot file {path}: {source}")]
+    Io {
+        /// File that was being written.
+        path: PathBuf,
+        /// Underlying I/O error.
+        #[source]
+        source: std::io::Error,
+    },
+    /// The drawing library refused to draw (not expected for in-memory SVG).
+    #[error("plot {path}: drawing failed: {message}")]
+    Draw {
+        /// File that was being drawn.
+        path: PathBuf,
+        /// Message from the drawing library.
+        message: String,
+    },
+    /// A plot or a series had no samples at all.
+    #[error("plot {path}: no data in {what}")]
+    Empty {
+        /// File that was to be drawn.
+        path: PathBuf,
+        /// Which input was empty, e.g. `series "front left"`.
+        what: String,
+    },
+    /// Every sample was NaN or infinite, so there is nothing to draw.
+    #[error("plot {path}: {what} has no finite values")]
+    NonFinite {
+        /// File that was to be drawn.
+        path: PathBuf,
+        /// Which input had no finite value.
+        what: String,
+    },
+    /// Two inputs that must pair up element by element have different lengths.
+    #[error("plot {path}: {what}: expected {expected} values, found {found}")]
+    LengthMismatch {
+        /// File that was to be drawn.
+        path: PathBuf,
+        /// Which inputs disagree, e.g. `series "rear": y against x`.
+        what: String,
+        /// Length required (that of the reference input).
+        expected: usize,
+        /// Length found.
+        found: usize,
+    },
+    /// A parameter or grid coordinate is unusable (non-finite, negative where
+    /// it must be positive, or grid coordinates not strictly increasing).
+    #[error("plot {path}: {what}")]
+    InvalidValue {
+        /// File that was to be drawn.
+        path: PathBuf,
+        /// What is wrong, in words.
+        what: String,
+    },
+}
+
+impl PlotError {
+    pub(crate) fn empty(path: &Path, what: impl Into<String>) -> Self {
+        PlotError::Empty {
+            path: path.to_path_buf(),
+            what: what.into(),
+        }
+    }
+
+    pub(crate) fn non_finite(path: &Path, what: impl Into<String>) -> Self {
+        PlotError::NonFinite {
+            path: path.to_path_buf(),
+            what: what.into(),
+        }
+    }
+
+    pub(crate) fn mismatch(
+        path: &Path,
+        what: impl Into<String>,
+        expected: usize,
+        found: usize,
+    ) -> Self {
+        PlotError::LengthMismatch {
+            path: path.to_path_buf(),
+            what: what.into(),
+            expected,
+            found,
+        }
+    }
+
+    pub(crate) fn invalid(path: &Path, what: impl Into<String>) -> Self {
+        PlotError::InvalidValue {
+            path: path.to_path_buf(),
+            what: what.into(),
+        }
+    }
+}

@@ -1,0 +1,610 @@
+//! Line plots: time histories, cross-plots, sweeps with markers, and stacked
+//! channels sharing one x axis. Also the chart-drawing routine the other
+//! plot kinds build on.
+
+use std::path::Path;
+
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+use super::style::{
+    self, AXIS_COLOUR, AXIS_TITLE_SIZE, DrawError, FINE_GRID, FONT, GRID, LEGEND_SIZE, LINE_WIDTH,
+    MARGIN, MARKER_RADIUS, REFERENCE, TICK_SIZE, TITLE_SIZE, X_LABEL_AREA, Y_LABEL_AREA,
+};
+use super::{Axis, PlotError, Series};
+
+/// One curve ready to draw: its finite runs of points and its look.
+pub(crate) struct Curve<'a> {
+    /// Legend text.
+    pub label: &'a str,
+    /// Runs of finite points; the line is broken between runs.
+    pub segments: Vec<Vec<(f64, f64)>>,
+    /// Line and marker colour.
+    pub colour: RGBColor,
+    /// Line width, px.
+    pub width: u32,
+    /// Draw a marker at every point.
+    pub markers: bool,
+    /// Draw the line dashed (fits and other derived lines over data).
+    pub dashed: bool,
+}
+
+impl<'a> Curve<'a> {
+    /// A data curve in the `index`-th palette colour.
+    pub fn from_series(series: &'a Series, index: usize, markers: bool) -> Self {
+        Curve {
+            label: &series.label,
+            segments: style::segments(&series.x, &series.y),
+            colour: style::colour(index),
+            width: LINE_WIDTH,
+            markers,
+            dashed: false,
+        }
+    }
+}
+
+/// Everything one chart needs.
+pub(crate) struct Chart<'a> {
+    /// Title above the chart; `None` when the caller titles the whole canvas.
+    pub title: Option<&'a str>,
+    /// x axis title; `None` hides the x tick labels (upper stacked panels).
+    pub x_label: Option<&'a str>,
+    /// y axis title.
+    pub y_label: &'a str,
+    /// x axis range, in data units.
+    pub x_range: (f64, f64),
+    /// y axis range, in data units.
+    pub y_range: (f64, f64),
+    /// Most tick labels on the y axis.
+    pub y_ticks: usize,
+    /// Curves in drawing order (the last is drawn on top).
+    pub curves: Vec<Curve<'a>>,
+    /// Draw thin reference lines through x = 0 and y = 0.
+    pub zero_lines: bool,
+    /// Vertical margins, px (top, bottom).
+    pub margins: (u32, u32),
+}
+
+/// Most tick labels on the x axis.
+const X_TICKS: usize = 10;
+
+/// Draws one chart (axes, grid, curves, legend when there is more than one
+/// curve) filling `area`.
+pub(crate) fn draw_chart(
+    area: &DrawingArea<SVGBackend<'_>, Shift>,
+    chart: &Chart<'_>,
+) -> Result<(), DrawError> {
+    let (x0, x1) = chart.x_range;
+    let (y0, y1) = chart.y_range;
+    let mut builder = ChartBuilder::on(area);
+    builder
+        .margin_top(chart.margins.0)
+        .margin_bottom(chart.margins.1)
+        .margin_left(MARGIN)
+        .margin_right(MARGIN + 12)
+        .y_label_area_size(Y_LABEL_AREA)
+        .x_label_area_size(if chart.x_label.is_some() {
+            X_LABEL_AREA
+        } else {
+            4
+        });
+    if let Some(title) = chart.title {
+        builder.caption(title, (FONT, TITLE_SIZE));
+    }
+    let mut ctx = builder.build_cartesian_2d(x0..x1, y0..y1)?;
+
+    let x_span = x1 - x0;
+    let y_span = y1 - y0;
+    let x_format = |v: &f64| style::tick_label(*v, x_span, X_TICKS);
+    let no_label = |_: &f64| String::new();
+    let y_format = |v: &f64| style::tick_label(*v, y_span, chart.y_ticks);
+    let mut mesh = ctx.configure_mesh();
+    mesh.x_labels(X_TICKS)
+        .y_labels(chart.y_ticks)
+        .max_light_lines(4)
+        .bold_line_style(GRID)
+        .light_line_style(FINE_GRID)
+        .axis_style(AXIS_COLOUR)
+        .label_style((FONT, TICK_SIZE))
+        .axis_desc_style((FONT, AXIS_TITLE_SIZE))
+        .y_desc(chart.y_label)
+        .y_label_formatter(&y_format);
+    match chart.x_label {
+        Some(label) => mesh.x_desc(label).x_label_formatter(&x_format),
+        None => mesh.x_label_formatter(&no_label),
+    };
+    mesh.draw()?;
+
+    if chart.zero_lines {
+        let thin = REFERENCE.stroke_width(1);
+        if x0 < 0.0 && x1 > 0.0 {
+            ctx.draw_series(std::iter::once(PathElement::new(
+                vec![(0.0, y0), (0.0, y1)],
+                thin,
+            )))?;
+        }
+        if y0 < 0.0 && y1 > 0.0 {
+            ctx.draw_series(std::iter::once(PathElement::new(
+                vec![(x0, 0.0), (x1, 0.0)],
+                thin,
+            )))?;
+        }
+    }
+
+    for curve in &chart.curves {
+        let line = curve.colour.stroke_width(curve.width);
+        let dot = curve.colour.filled();
+        let mut first = true;
+        for segment in &curve.segments {
+            // A lone point has no line to show it; give it a dot.
+            if segment.len() == 1 && !curve.markers {
+                ctx.draw_series(std::iter::once(Circle::new(
+                    segment[0],
+                    curve.width + 1,
+                    dot,
+                )))?;
+            } else {
+                let points = segment.iter().copied();
+                let drawn = if curve.dashed {
+                    ctx.draw_series(DashedLineSeries::new(points, 12, 6, line))?
+                } else {
+                    ctx.draw_series(LineSeries::new(points, line))?
+                };
+                if first {
+                    let colour = curve.colour;
+                    drawn.label(curve.label).legend(move |(x, y)| {
+                        Rectangle::new([(x, y - 2), (x + 22, y + 2)], colour.filled())
+                    });
+                    first = false;
+                }
+            }
+            if curve.markers {
+                ctx.draw_series(segment.iter().map(|&p| Circle::new(p, MARKER_RADIUS, dot)))?;
+            }
+        }
+        if first {
+            // No drawable line (no data, or only lone points): keep the
+            // legend entry so the reader still sees the series exists.
+            let colour = curve.colour;
+            ctx.draw_series(std::iter::empty::<Circle<(f64, f64), u32>>())?
+                .label(curve.label)
+                .legend(move |(x, y)| {
+                    Rectangle::new([(x, y - 2), (x + 22, y + 2)], colour.filled())
+                });
+        }
+    }
+
+    if chart.curves.len() > 1 {
+        let corner = style::quietest_corner(
+            chart
+                .curves
+                .iter()
+                .flat_map(|c| c.segments.iter().map(|s| s.as_slice())),
+            chart.x_range,
+            chart.y_range,
+            ctx.plotting_area().dim_in_pixel(),
+            style::legend_size(chart.curves.iter().map(|c| c.label)),
+        );
+        ctx.configure_series_labels()
+            .position(corner)
+            .margin(10)
+            .label_font((FONT, LEGEND_SIZE))
+            .background_style(WHITE.mix(0.9))
+            .border_style(AXIS_COLOUR.mix(0.5))
+            .draw()?;
+    }
+    Ok(())
+}
+
+/// Range of one coordinate over the points where both x and y are finite.
+fn range_of(series: &[&Series], coordinate: usize) -> Option<(f64, f64)> {
+    style::finite_extent(series.iter().flat_map(|s| {
+        style::finite_points(&s.x, &s.y).map(move |p| if coordinate == 0 { p.0 } else { p.1 })
+    }))
+    .map(style::padded)
+}
+
+fn draw_lines(
+    path: &Path,
+    title: &str,
+    x_axis: &Axis,
+    y_axis: &Axis,
+    series: &[Series],
+    markers: bool,
+) -> Result<(), PlotError> {
+    style::check_series(path, series, "series list")?;
+    let all: Vec<&Series> = series.iter().collect();
+    let (Some(x_range), Some(y_range)) = (range_of(&all, 0), range_of(&all, 1)) else {
+        return Err(PlotError::non_finite(path, "series list"));
+    };
+    let chart = Chart {
+        title: Some(title),
+        x_label: Some(&x_axis.label),
+        y_label: &y_axis.label,
+        x_range,
+        y_range,
+        y_ticks: 10,
+        curves: series
+            .iter()
+            .enumerate()
+            .map(|(i, s)| Curve::from_series(s, i, markers))
+            .collect(),
+        zero_lines: false,
+        margins: (MARGIN, MARGIN),
+    };
+    style::write_svg(path, style::SIZE, |root| draw_chart(root, &chart))
+}
+
+/// Writes a line plot of one or more series to the SVG file `path`: time
+/// histories (x = time) or cross-plots (any x). Axis ranges follow the finite
+/// data with a 5 % margin; a constant channel is centred. A legend appears
+/// when there is more than one series, in the corner the data leave free.
+///
+/// Canvas 900 × 600 px. Errors: [`PlotError::Empty`] for no series or a
+/// series with no samples, [`PlotError::LengthMismatch`] when a series' x and
+/// y differ in length, [`PlotError::NonFinite`] when no point is finite,
+/// [`PlotError::Io`] when the file cannot be written.
+pub fn lines(
+    path: &Path,
+    title: &str,
+    x_axis: &Axis,
+    y_axis: &Axis,
+    series: &[Series],
+) -> Result<(), PlotError> {
+    draw_lines(path, title, x_axis, y_axis, series, false)
+}
+
+/// As [`lines`], with a marker at every sample: for sweep results and other
+/// series of few points, where the reader needs to see where the samples are.
+pub fn lines_with_markers(
+    path: &Path,
+    title: &str,
+    x_axis: &Axis,
+    y_axis: &Axis,
+    series: &[Series],
+) -> Result<(), PlotError> {
+    draw_lines(path, title, x_axis, y_axis, series, true)
+}
+
+/// Writes several channels against one shared x axis (usually time) as
+/// vertically stacked panels to the SVG file `path`. Each panel has its own y
+/// axis and holds one or more series (legend when more than one); all panels
+/// share the x range, and only the bottom one carries x tick labels and the x
+/// axis title.
+///
+/// Canvas 900 px wide, 600 px or 200 px per panel plus title, whichever is
+/// taller. Errors as for [`lines`], and [`PlotError::Empty`] for no panels.
+pub fn stacked(
+    path: &Path,
+    title: &str,
+    x_axis: &Axis,
+    panels: &[(Axis, Vec<Series>)],
+) -> Result<(), PlotError> {
+    if panels.is_empty() {
+        return Err(PlotError::empty(path, "panel list"));
+    }
+    for (axis, series) in panels {
+        style::check_series(path, series, &format!("panel \"{}\"", axis.label))?;
+    }
+    let all: Vec<&Series> = panels.iter().flat_map(|(_, s)| s.iter()).collect();
+    let Some(x_range) = range_of(&all, 0) else {
+        return Err(PlotError::non_finite(path, "panel list"));
+    };
+    let mut charts = Vec::with_capacity(panels.len());
+    for (k, (axis, series)) in panels.iter().enumerate() {
+        let own: Vec<&Series> = series.iter().collect();
+        let Some(y_range) = range_of(&own, 1) else {
+            return Err(PlotError::non_finite(
+                path,
+                format!("panel \"{}\"", axis.label),
+            ));
+        };
+        let bottom = k + 1 == panels.len();
+        charts.push(Chart {
+            title: None,
+            x_label: bottom.then_some(x_axis.label.as_str()),
+            y_label: &axis.label,
+            x_range,
+            y_range,
+            y_ticks: 5,
+            curves: series
+                .iter()
+                .enumerate()
+                .map(|(i, s)| Curve::from_series(s, i, false))
+                .collect(),
+            zero_lines: false,
+            margins: (6, 6),
+        });
+    }
+    let n = panels.len() as u32;
+    let title_height = 50;
+    let height = (title_height + 200 * n).max(600);
+    style::write_svg(path, (style::SIZE.0, height), |root| {
+        let body = root.titled(title, (FONT, TITLE_SIZE))?;
+        let body_height = body.dim_in_pixel().1;
+        let panel_height = body_height.saturating_sub(X_LABEL_AREA) / n;
+        let mut rest = body;
+        for (k, chart) in charts.iter().enumerate() {
+            if k + 1 == charts.len() {
+                draw_chart(&rest, chart)?;
+                break;
+            }
+            let (top, below) = rest.split_vertically(panel_height);
+            draw_chart(&top, chart)?;
+            rest = below;
+        }
+        Ok(())
+    })
+}
+
+#[cfg(test)]
+pub(crate) mod tests {
+    use super::*;
+
+    /// `<polyline` elements drawn in `colour` (plotters writes "#RRGGBB").
+    pub(crate) fn polylines_in(svg: &str, colour: RGBColor) -> usize {
+        let stroke = format!(
+            "stroke=\"#{:02X}{:02X}{:02X}\"",
+            colour.0, colour.1, colour.2
+        );
+        svg.lines()
+            .filter(|l| l.starts_with("<polyline") && l.contains(&stroke))
+            .count()
+    }
+
+    fn time_series(label: &str, n: usize, f: impl Fn(f64) -> f64) -> Series {
+        let t: Vec<f64> = (0..n).map(|i| i as f64 * 0.01).collect();
+        let y = t.iter().map(|&t| f(t)).collect();
+        Series::new(label, t, y)
+    }
+
+    #[test]
+    fn lines_writes_titled_svg_with_one_path_per_series() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("lines.svg");
+        let series = [
+            time_series("front axle", 200, |t| (3.0 * t).sin()),
+            time_series("rear axle", 200, |t| 0.8 * (3.0 * t).sin()),
+            time_series("body", 200, |t| 0.1 * t),
+        ];
+        lines(
+            &path,
+            "Slip angles, sine steer",
+            &Axis::new("time [s]"),
+            &Axis::new("slip angle [deg]"),
+            &series,
+        )
+        .unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert!(svg.starts_with("<svg"));
+        for text in [
+            "Slip angles, sine steer",
+            "time [s]",
+            "slip angle [deg]",
+            "front axle",
+            "rear axle",
+            "body",
+        ] {
+            assert!(svg.contains(text), "missing text {text:?}");
+        }
+        assert!(svg.contains("\nfront axle\n"), "legend entry");
+        for i in 0..3 {
+            assert_eq!(polylines_in(&svg, style::colour(i)), 1, "series {i}");
+        }
+    }
+
+    #[test]
+    fn same_input_writes_identical_files() {
+        let dir = tempfile::tempdir().unwrap();
+        let (a, b) = (dir.path().join("a.svg"), dir.path().join("b.svg"));
+        let series = [
+            time_series("left", 100, |t| (7.0 * t).sin()),
+            time_series("right", 100, |t| (7.0 * t).cos()),
+        ];
+        let (x, y) = (Axis::new("time [s]"), Axis::new("wheel speed [rad/s]"));
+        lines(&a, "Wheel speeds", &x, &y, &series).unwrap();
+        lines(&b, "Wheel speeds", &x, &y, &series).unwrap();
+        assert_eq!(std::fs::read(&a).unwrap(), std::fs::read(&b).unwrap());
+    }
+
+    #[test]
+    fn single_series_has_no_legend() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("one.svg");
+        let series = [time_series("yaw rate", 50, |t| t * t)];
+        lines(
+            &path,
+            "Yaw rate",
+            &Axis::new("time [s]"),
+            &Axis::new("yaw rate [deg/s]"),
+            &series,
+        )
+        .unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert_eq!(polylines_in(&svg, style::colour(0)), 1);
+        // plotters writes each text on its own line; only a legend would
+        // write the bare series label.
+        assert!(!svg.contains("\nyaw rate\n"));
+    }
+
+    #[test]
+    fn nan_breaks_the_line_without_panic() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("nan.svg");
+        let mut s = time_series("roll angle", 100, |t| t);
+        s.y[40] = f64::NAN;
+        s.x[70] = f64::INFINITY;
+        lines(
+            &path,
+            "Roll",
+            &Axis::new("time [s]"),
+            &Axis::new("roll angle [deg]"),
+            &[s],
+        )
+        .unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert_eq!(polylines_in(&svg, style::colour(0)), 3);
+    }
+
+    #[test]
+    fn constant_channel_plots() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("flat.svg");
+        let s = time_series("speed", 20, |_| 22.2);
+        lines(
+            &path,
+            "Speed",
+            &Axis::new("time [s]"),
+            &Axis::new("speed [m/s]"),
+            &[s],
+        )
+        .unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert_eq!(polylines_in(&svg, style::colour(0)), 1);
+        // The flat line sits in the middle of the 600 px canvas, not on an edge.
+        let stroke = "stroke=\"#0072B2\"";
+        let line = svg
+            .lines()
+            .find(|l| l.starts_with("<polyline") && l.contains(stroke))
+            .unwrap();
+        let heights: Vec<i32> = line
+            .split("points=\"")
+            .nth(1)
+            .unwrap()
+            .split_whitespace()
+            .filter_map(|p| p.split(',').nth(1)?.trim_end_matches("\"/>").parse().ok())
+            .collect();
+        assert_eq!(heights.len(), 20);
+        assert!(heights.iter().all(|&h| h == heights[0]));
+        assert!(
+            (250..350).contains(&heights[0]),
+            "line at {} px",
+            heights[0]
+        );
+    }
+
+    #[test]
+    fn markers_are_drawn_at_every_point() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("sweep.svg");
+        let a = Series::new(
+            "40 km/h",
+            vec![0.0, 1.0, 2.0, 3.0],
+            vec![0.0, 0.5, 0.9, 1.2],
+        );
+        let b = Series::new(
+            "80 km/h",
+            vec![0.0, 1.0, 2.0, 3.0],
+            vec![0.0, 0.7, 1.3, 1.7],
+        );
+        lines_with_markers(
+            &path,
+            "Steady-state yaw gain",
+            &Axis::new("steer angle [deg]"),
+            &Axis::new("yaw rate [deg/s]"),
+            &[a, b],
+        )
+        .unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert_eq!(polylines_in(&svg, style::colour(0)), 1);
+        assert_eq!(polylines_in(&svg, style::colour(1)), 1);
+        assert_eq!(svg.matches("<circle").count(), 8);
+    }
+
+    #[test]
+    fn bad_input_gives_the_right_error() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("bad.svg");
+        let (x, y) = (Axis::new("x [m]"), Axis::new("y [m]"));
+        assert!(matches!(
+            lines(&path, "t", &x, &y, &[]),
+            Err(PlotError::Empty { .. })
+        ));
+        let empty = Series::new("e", vec![], vec![]);
+        assert!(matches!(
+            lines(&path, "t", &x, &y, &[empty]),
+            Err(PlotError::Empty { .. })
+        ));
+        let short = Series::new("s", vec![0.0, 1.0, 2.0], vec![0.0, 1.0]);
+        assert!(matches!(
+            lines(&path, "t", &x, &y, &[short]),
+            Err(PlotError::LengthMismatch {
+                expected: 3,
+                found: 2,
+                ..
+            })
+        ));
+        let nan = Series::new("n", vec![0.0, 1.0], vec![f64::NAN, f64::NAN]);
+        assert!(matches!(
+            lines(&path, "t", &x, &y, &[nan]),
+            Err(PlotError::NonFinite { .. })
+        ));
+        assert!(!path.exists(), "no file is written on bad input");
+        let missing_dir = dir.path().join("no/such/dir/plot.svg");
+        let ok = Series::new("ok", vec![0.0, 1.0], vec![0.0, 1.0]);
+        assert!(matches!(
+            lines(&missing_dir, "t", &x, &y, &[ok]),
+            Err(PlotError::Io { .. })
+        ));
+    }
+
+    #[test]
+    fn stacked_panels_share_the_x_axis() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("stacked.svg");
+        let panels = vec![
+            (
+                Axis::new("steer angle [deg]"),
+                vec![time_series("hand wheel", 300, |t| 30.0 * t.sin())],
+            ),
+            (
+                Axis::new("yaw rate [deg/s]"),
+                vec![
+                    time_series("model", 300, |t| 10.0 * t.sin()),
+                    time_series("reference", 300, |t| 9.0 * t.sin()),
+                ],
+            ),
+            (
+                Axis::new("lateral acceleration [g]"),
+                vec![time_series("cg", 300, |t| 0.5 * t.sin())],
+            ),
+        ];
+        stacked(
+            &path,
+            "Sine steer, 100 km/h",
+            &Axis::new("time [s]"),
+            &panels,
+        )
+        .unwrap();
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert!(svg.starts_with("<svg"));
+        for text in [
+            "Sine steer, 100 km/h",
+            "time [s]",
+            "steer angle [deg]",
+            "yaw rate [deg/s]",
+            "lateral acceleration [g]",
+            "reference",
+        ] {
+            assert!(svg.contains(text), "missing text {text:?}");
+        }
+        // First colour: one line in each panel; second colour: middle panel only.
+        assert_eq!(polylines_in(&svg, style::colour(0)), 3);
+        assert_eq!(polylines_in(&svg, style::colour(1)), 1);
+        // The x axis title appears once, under the bottom panel.
+        assert_eq!(svg.matches("time [s]").count(), 1);
+
+        assert!(matches!(
+            stacked(&path, "t", &Axis::new("time [s]"), &[]),
+            Err(PlotError::Empty { .. })
+        ));
+        let bad = vec![(
+            Axis::new("a [m]"),
+            vec![Series::new("s", vec![0.0], vec![0.0, 1.0])],
+        )];
+        assert!(matches!(
+            stacked(&path, "t", &Axis::new("time [s]"), &bad),
+            Err(PlotError::LengthMismatch { .. })
+        ));
+    }
+}
