@@ -1,0 +1,98 @@
+//! Command-line interface: raw clap arguments, dispatched to one module per
+//! subcommand. Each subcommand validates its input into library types before
+//! any work starts.
+
+mod bench;
+mod vehicle;
+
+use clap::{Parser, Subcommand};
+
+/// How a command ended when it did not fail on bad input.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Outcome {
+    /// Exit code 0.
+    Success,
+    /// Exit code 1: a run, criterion or check failed (the output says which).
+    Failed,
+}
+
+/// Marks an error as bad input (exit code 2). Wrap with `.context(BadInput)`
+/// or return `Err(BadInput.into())`-style errors through [`bad_input`].
+#[derive(Debug)]
+pub struct BadInput(pub String);
+
+impl std::fmt::Display for BadInput {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
+impl std::error::Error for BadInput {}
+
+/// An error that means "the input is wrong" (exit code 2).
+pub fn bad_input(message: impl Into<String>) -> anyhow::Error {
+    anyhow::Error::new(BadInput(message.into()))
+}
+
+/// Exit code for an error: 2 for bad input (options, parameter files,
+/// scripts), 1 for anything else.
+pub fn exit_code(err: &anyhow::Error) -> u8 {
+    let bad = err.chain().any(|c| {
+        c.is::<BadInput>() || c.is::<yawdyn::params::ParamError>() || c.is::<clap::Error>()
+    });
+    if bad { 2 } else { 1 }
+}
+
+/// yawdyn — vehicle-handling simulation for chassis and vehicle-dynamics engineers.
+///
+/// Exit codes: 0 success; 1 a run, criterion or check failed; 2 bad input.
+#[derive(Debug, Parser)]
+#[command(name = "yawdyn", version = version(), about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+fn version() -> &'static str {
+    concat!(env!("CARGO_PKG_VERSION"), " (", env!("YAWDYN_GIT_REVISION"), ")")
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Check a vehicle file and print its derived quantities.
+    Vehicle(vehicle::Args),
+    /// Measure model speed: ns per derivative evaluation, real-time factor.
+    Bench(bench::Args),
+}
+
+/// Parses the command line and runs the subcommand.
+pub fn run() -> anyhow::Result<Outcome> {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            // --help and --version are successes; everything else is bad input.
+            if matches!(
+                e.kind(),
+                clap::error::ErrorKind::DisplayHelp | clap::error::ErrorKind::DisplayVersion
+            ) {
+                print!("{e}");
+                return Ok(Outcome::Success);
+            }
+            eprint!("{e}");
+            std::process::exit(2);
+        }
+    };
+    match cli.command {
+        Command::Vehicle(args) => vehicle::run(args),
+        Command::Bench(args) => bench::run(args),
+    }
+}
+
+/// Parses `--set key=value` options into overrides (bad input on error).
+pub fn parse_overrides(sets: &[String]) -> anyhow::Result<Vec<yawdyn::params::Override>> {
+    sets.iter()
+        .map(|s| {
+            yawdyn::params::Override::parse(s).map_err(|e| bad_input(format!("--set {s}: {e}")))
+        })
+        .collect()
+}
