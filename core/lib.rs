@@ -18,4 +18,5 @@ pub mod analysis;
 pub mod params;
 pub mod plot;
 pub mod results;
+pub mod table;
 pub mod tyre;
