@@ -149,11 +149,17 @@ fn text_width(text: &str) -> usize {
     text.chars().count()
 }
 
-/// True when a cell reads as a number (`-1.5`, `2e-3`, `nan`, `inf`).
+/// True when a cell reads as a number (`-1.5`, `2e-3`, `nan`, `inf`) or is
+/// the placeholder [`MISSING`] for an absent number; such cells are
+/// right-aligned.
 pub fn looks_numeric(text: &str) -> bool {
     let trimmed = text.trim();
-    !trimmed.is_empty() && trimmed.parse::<f64>().is_ok()
+    trimmed == MISSING || (!trimmed.is_empty() && trimmed.parse::<f64>().is_ok())
 }
+
+/// Cell text for a number that is absent (e.g. a criterion without a lower
+/// limit); aligned like a number.
+pub const MISSING: &str = "-";
 
 /// Format `value` with `sig` significant digits (at least 1) for a table.
 ///
@@ -246,6 +252,17 @@ mod tests {
     }
 
     #[test]
+    fn missing_placeholder_aligns_with_numbers() {
+        let mut table = Table::new(["lower"]);
+        table.row([MISSING]).row(["0.31"]);
+        let text = table.render();
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines[0], "lower");
+        assert_eq!(lines[2], "    -");
+        assert_eq!(lines[3], " 0.31");
+    }
+
+    #[test]
     fn render_mixed_column_keeps_header_left() {
         let mut table = Table::new(["limit", "k"]);
         table.row(["none", "a"]).row(["3", "b"]);
@@ -265,10 +282,10 @@ mod tests {
 
     #[test]
     fn looks_numeric_accepts_numbers_and_nan_only() {
-        for yes in ["1", "-2.5", "1e-5", "nan", "inf", "-inf", " 3 "] {
+        for yes in ["1", "-2.5", "1e-5", "nan", "inf", "-inf", " 3 ", MISSING] {
             assert!(looks_numeric(yes), "{yes}");
         }
-        for no in ["", "abc", "1.2 m", "passed", "-"] {
+        for no in ["", "abc", "1.2 m", "passed", "--", "1-"] {
             assert!(!looks_numeric(no), "{no}");
         }
     }
