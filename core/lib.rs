@@ -16,9 +16,11 @@
 
 pub mod analysis;
 pub mod bench;
+pub mod manoeuvre;
 pub mod model;
 pub mod params;
 pub mod plot;
 pub mod results;
 pub mod sim;
+pub mod table;
 pub mod tyre;

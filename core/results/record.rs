@@ -114,3 +114,141 @@ impl RunRecord {
         self.status == RunStatus::Completed && self.criteria.iter().all(|c| c.passed)
     }
 }
+
+impl RunRecord {
+    /// Number of output samples (the length of [`RunRecord::time`]).
+    pub fn samples(&self) -> usize {
+        self.time.len()
+    }
+
+    /// Time span covered by the samples, s (last minus first; 0 with fewer
+    /// than two samples).
+    pub fn duration_s(&self) -> f64 {
+        match (self.time.first(), self.time.last()) {
+            (Some(first), Some(last)) if self.time.len() > 1 => last - first,
+            _ => 0.0,
+        }
+    }
+
+    /// Check that the record can be stored: every channel as long as `time`,
+    /// channel and metric names usable as file keys (non-empty, no `/`, not
+    /// `.` or `..`), unique, and no channel called `time`.
+    ///
+    /// Returns a sentence naming the first problem found.
+    pub fn validate(&self) -> Result<(), String> {
+        let mut seen = std::collections::HashSet::new();
+        for channel in &self.channels {
+            check_key("channel", &channel.name)?;
+            if channel.name == "time" {
+                return Err(
+                    "a channel may not be called `time` (time is stored separately)".into(),
+                );
+            }
+            if !seen.insert(channel.name.as_str()) {
+                return Err(format!("channel `{}` appears twice", channel.name));
+            }
+            if channel.data.len() != self.time.len() {
+                return Err(format!(
+                    "channel `{}` has {} samples but time has {}",
+                    channel.name,
+                    channel.data.len(),
+                    self.time.len()
+                ));
+            }
+        }
+        seen.clear();
+        for metric in &self.metrics {
+            check_key("metric", &metric.name)?;
+            if !seen.insert(metric.name.as_str()) {
+                return Err(format!("metric `{}` appears twice", metric.name));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// A name used as a key inside the results file must be a plain word.
+fn check_key(kind: &str, name: &str) -> Result<(), String> {
+    if name.is_empty() || name == "." || name == ".." || name.contains('/') || name.contains('\0') {
+        return Err(format!(
+            "{kind} name {name:?} cannot be stored (empty, `.`, `..`, or contains `/` or NUL)"
+        ));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn record(time: Vec<f64>, channels: Vec<(&str, usize)>) -> RunRecord {
+        RunRecord {
+            time,
+            channels: channels
+                .into_iter()
+                .map(|(name, len)| Channel {
+                    name: name.to_string(),
+                    unit: "1".to_string(),
+                    description: String::new(),
+                    data: vec![0.0; len],
+                })
+                .collect(),
+            provenance: Provenance::default(),
+            status: RunStatus::Completed,
+            metrics: Vec::new(),
+            criteria: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn duration_and_samples() {
+        let r = record(vec![0.5, 1.0, 2.5], vec![]);
+        assert_eq!(r.samples(), 3);
+        assert_eq!(r.duration_s(), 2.0);
+        assert_eq!(record(vec![1.0], vec![]).duration_s(), 0.0);
+        assert_eq!(record(vec![], vec![]).duration_s(), 0.0);
+    }
+
+    #[test]
+    fn validate_accepts_consistent_record() {
+        assert_eq!(
+            record(vec![0.0, 1.0], vec![("ay", 2), ("ax", 2)]).validate(),
+            Ok(())
+        );
+    }
+
+    #[test]
+    fn validate_names_the_problem() {
+        let short = record(vec![0.0, 1.0], vec![("ay", 1)])
+            .validate()
+            .unwrap_err();
+        assert!(
+            short.contains("`ay` has 1 samples but time has 2"),
+            "{short}"
+        );
+        let twice = record(vec![], vec![("ay", 0), ("ay", 0)])
+            .validate()
+            .unwrap_err();
+        assert!(twice.contains("twice"), "{twice}");
+        for bad in ["", ".", "..", "a/b", "time"] {
+            assert!(
+                record(vec![], vec![(bad, 0)]).validate().is_err(),
+                "{bad:?}"
+            );
+        }
+        let mut r = record(vec![], vec![]);
+        r.metrics = vec![
+            Metric {
+                name: "m".into(),
+                value: 1.0,
+                unit: String::new(),
+            },
+            Metric {
+                name: "m".into(),
+                value: 2.0,
+                unit: String::new(),
+            },
+        ];
+        assert!(r.validate().unwrap_err().contains("metric `m`"));
+    }
+}
