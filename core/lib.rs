@@ -15,6 +15,7 @@
 #![warn(missing_docs)]
 
 pub mod analysis;
+pub mod manoeuvre;
 pub mod params;
 pub mod plot;
 pub mod results;
