@@ -81,6 +81,12 @@ pub enum AnalysisError {
         /// Allowed spread (channel units).
         limit: f64,
     },
+    /// A channel settles at exactly zero, so no ratio to it can be formed.
+    #[error("channel `{channel}` settles at zero; nothing to evaluate")]
+    ZeroSteadyState {
+        /// The channel.
+        channel: &'static str,
+    },
     /// An event the evaluation needs does not occur in the record.
     #[error("{event} not found in the record")]
     EventNotFound {

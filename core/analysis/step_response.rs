@@ -188,7 +188,10 @@ fn steady_mean(
     let max = values.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let min = values.iter().copied().fold(f64::INFINITY, f64::min);
     let limit = options.steady_tolerance * mean.abs();
-    if mean == 0.0 || max - min > limit {
+    if mean == 0.0 {
+        return Err(AnalysisError::ZeroSteadyState { channel });
+    }
+    if max - min > limit {
         return Err(AnalysisError::NoSteadyState {
             channel,
             window: options.steady_window,
@@ -329,6 +332,14 @@ mod tests {
         let t_peak = PI / wd;
         let overshoot = (-zeta * PI / (1.0 - zeta * zeta).sqrt()).exp();
         let t90 = bisect(0.0, t_peak, |t| second_order_step(t, zeta, wn) - 0.9);
+        println!(
+            "ideal step: peak time {:.6} s (expected {:.6}); overshoot {:.6} (expected {overshoot:.6}); response time {:.6} s (expected {:.6})",
+            m.peak_response_time.unwrap(),
+            t_peak + t_step - t0,
+            m.overshoot,
+            m.response_time,
+            t90 + t_step - t0
+        );
         assert_relative_eq!(
             m.peak_response_time.unwrap(),
             t_peak + t_step - t0,
@@ -376,6 +387,14 @@ mod tests {
         let t90 = bisect(ts, ts + t_peak, |t| response(t) / steady - 0.9);
 
         assert_relative_eq!(m.t0, t0, epsilon = 1e-9);
+        println!(
+            "ramp steer: t0 {t0:.4} s; peak time {:.6} s (expected {:.6}); overshoot {:.6} (expected {overshoot:.6}); response time {:.6} s (expected {:.6})",
+            m.peak_response_time.unwrap(),
+            ts + t_peak - t0,
+            m.overshoot,
+            m.response_time,
+            t90 - t0
+        );
         assert_relative_eq!(
             m.peak_response_time.unwrap(),
             ts + t_peak - t0,
@@ -447,7 +466,12 @@ mod tests {
         ));
         // No steer at all.
         let zero = vec![0.0; time.len()];
-        assert!(step_response(&time, &zero, &zero, opts).is_err());
+        assert_eq!(
+            step_response(&time, &zero, &zero, opts),
+            Err(AnalysisError::ZeroSteadyState {
+                channel: "steer_wheel_angle"
+            })
+        );
         // Mismatched lengths, NaN, non-increasing time, too short.
         assert!(matches!(
             step_response(&time, &steer[1..], &steer, opts),

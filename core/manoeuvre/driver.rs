@@ -118,9 +118,10 @@ impl SpeedController {
 
     /// One control step: `target` and `speed` in m/s, `dt` in s. Returns
     /// (drive, brake), each in 0..1, at most one non-zero. Non-finite input
-    /// gives (0, 0) and leaves the state unchanged.
+    /// or negative gains give (0, 0) and leave the state unchanged.
     pub fn update(&mut self, target: f64, speed: f64, dt: f64) -> (f64, f64) {
-        if !(target.is_finite() && speed.is_finite() && dt.is_finite()) {
+        let inputs = [target, speed, dt, self.kp, self.ki];
+        if inputs.iter().any(|v| !v.is_finite()) || self.kp < 0.0 || self.ki < 0.0 {
             return (0.0, 0.0);
         }
         let error = target - speed;
@@ -554,6 +555,37 @@ impl PathFollower {
         self.last_cross_track_error = 0.0;
     }
 
+    /// Check the public settings: look-ahead distance and time finite and
+    /// ≥ 0, integral time > 0 when given, feedforward finite, steering limit
+    /// finite in [0, π/2).
+    pub fn check_settings(&self) -> Result<(), DriverError> {
+        let item = "path follower";
+        let ld = self.lookahead_min;
+        check(item, "lookahead_min", ld, ld >= 0.0, "finite and >= 0")?;
+        let k = self.lookahead_time;
+        check(item, "lookahead_time", k, k >= 0.0, "finite and >= 0")?;
+        if let Some(ti) = self.integral_time {
+            check(item, "integral_time", ti, ti > 0.0, "finite and > 0")?;
+        }
+        check(
+            item,
+            "understeer_feedforward",
+            self.understeer_feedforward,
+            true,
+            "finite",
+        )?;
+        let max = self.max_road_wheel_angle;
+        let ok = (0.0..0.5 * PI).contains(&max);
+        check(
+            item,
+            "max_road_wheel_angle",
+            max,
+            ok,
+            "finite, in [0, π/2) rad",
+        )?;
+        Ok(())
+    }
+
     /// Cross-track error seen at the last update, m (positive left).
     pub fn cross_track_error(&self) -> f64 {
         self.last_cross_track_error
@@ -565,9 +597,13 @@ impl PathFollower {
     }
 
     /// One control step of `dt` s; returns the steering-wheel angle, rad
-    /// (positive left). A non-finite view gives NaN (for the caller's
-    /// finiteness check) and leaves the state unchanged.
+    /// (positive left). A non-finite view, a wheelbase ≤ 0 or settings that
+    /// fail [`PathFollower::check_settings`] give NaN (for the caller's
+    /// finiteness check) and leave the state unchanged.
     pub fn update(&mut self, view: &DriverView, dt: f64) -> f64 {
+        if self.check_settings().is_err() {
+            return f64::NAN;
+        }
         let fields = [
             view.x,
             view.y,
@@ -598,11 +634,8 @@ impl PathFollower {
             0.0
         };
         let l = view.wheelbase;
-        let max = self.max_road_wheel_angle.abs();
-        let integral_gain = match self.integral_time {
-            Some(ti) if ti > 0.0 => 2.0 / (ld * ld * ti),
-            _ => 0.0,
-        };
+        let max = self.max_road_wheel_angle;
+        let integral_gain = self.integral_time.map_or(0.0, |ti| 2.0 / (ld * ld * ti));
         let feedforward = self.understeer_feedforward * view.speed * view.speed * closest.curvature;
         let steer_for =
             |integral: f64| (l * (curvature_pp - integral_gain * integral)).atan() + feedforward;
@@ -697,6 +730,57 @@ mod tests {
         let (worst, _) = drive(&mut toy, &mut follower, 40.0, 10.0);
         println!("circle: max |e| over last 10 s = {worst:.2e} m");
         assert!(worst < 0.01, "{worst}");
+    }
+
+    #[test]
+    fn same_inputs_give_bit_identical_steering() {
+        let run = || {
+            let path = Path::double_lane_change(0.0, 0.0, 0.1, 3.5).unwrap();
+            let mut follower = PathFollower::new(path);
+            let mut toy = Toy {
+                x: -5.0,
+                y: 0.3,
+                yaw: 0.1,
+                speed: 18.0,
+                understeer: 0.001,
+            };
+            let mut bits = Vec::new();
+            for _ in 0..5000 {
+                let sw = follower.update(&toy.view(), DT);
+                bits.push(sw.to_bits());
+                toy.step(sw);
+            }
+            bits
+        };
+        assert_eq!(run(), run());
+    }
+
+    #[test]
+    fn bad_settings_give_nan_not_panic() {
+        let path = Path::straight(0.0, 0.0, 0.0).unwrap();
+        let mut follower = PathFollower::new(path);
+        let toy = Toy {
+            x: 0.0,
+            y: 1.0,
+            yaw: 0.0,
+            speed: 20.0,
+            understeer: 0.0,
+        };
+        follower.max_road_wheel_angle = f64::NAN;
+        assert!(follower.update(&toy.view(), DT).is_nan());
+        follower.max_road_wheel_angle = 2.0;
+        assert!(follower.check_settings().is_err());
+        assert!(follower.update(&toy.view(), DT).is_nan());
+        follower.max_road_wheel_angle = 0.5;
+        follower.integral_time = Some(-1.0);
+        assert!(follower.update(&toy.view(), DT).is_nan());
+        follower.integral_time = None;
+        assert!(follower.update(&toy.view(), DT).is_finite());
+        let mut c = SpeedController {
+            ki: -1.0,
+            ..Default::default()
+        };
+        assert_eq!(c.update(20.0, 10.0, 0.01), (0.0, 0.0));
     }
 
     #[test]
