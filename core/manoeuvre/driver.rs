@@ -1,0 +1,937 @@
+//! Closed-loop driver helpers: a PI speed controller and a pure-pursuit path
+//! follower with integral correction, plus the reference paths they follow
+//! (straight line, circle, ISO 3888-1 double lane change).
+//!
+//! The helpers see only a [`DriverView`] — position, heading, speed and two
+//! geometric constants — and return commands (pedal demands, steering-wheel
+//! angle), so they work with any vehicle model, including the toy models in
+//! the tests. They do not model driver lag, preview learning or limits of
+//! human performance.
+
+use std::f64::consts::PI;
+
+use thiserror::Error;
+
+use super::TurnDirection;
+
+/// What a driver helper sees of the vehicle. Positions in the ground frame
+/// (ISO 8855 earth-fixed axes, y left), SI units.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DriverView {
+    /// Reference-point position x, m. For pure pursuit the rear-axle centre is
+    /// the exact reference of the kinematic bicycle; the CG is common practice.
+    pub x: f64,
+    /// Reference-point position y, m.
+    pub y: f64,
+    /// Heading (yaw angle), rad, positive anticlockwise from the x axis.
+    pub yaw: f64,
+    /// Forward speed, m/s.
+    pub speed: f64,
+    /// Wheelbase L, m.
+    pub wheelbase: f64,
+    /// Overall steering ratio, steering-wheel angle per road-wheel angle.
+    pub steering_ratio: f64,
+}
+
+/// A driver-helper definition that makes no sense.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum DriverError {
+    /// A parameter is out of range or not finite.
+    #[error("{item}: `{parameter}` = {value} is invalid: {expected}")]
+    InvalidParameter {
+        /// Path or controller kind.
+        item: &'static str,
+        /// Parameter name.
+        parameter: &'static str,
+        /// Value given.
+        value: f64,
+        /// What is expected.
+        expected: &'static str,
+    },
+}
+
+fn check(
+    item: &'static str,
+    parameter: &'static str,
+    value: f64,
+    ok: bool,
+    expected: &'static str,
+) -> Result<f64, DriverError> {
+    if value.is_finite() && ok {
+        Ok(value)
+    } else {
+        Err(DriverError::InvalidParameter {
+            item,
+            parameter,
+            value,
+            expected,
+        })
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Speed control
+
+/// PI speed controller producing a drive request and a brake request, each
+/// 0..1, never both non-zero.
+///
+/// The PI output u = kp·e + ki·∫e dt (e = target − speed, m/s) is clamped to
+/// [−1, 1]; u > 0 is a drive request, u < 0 a brake request (common
+/// practice). Anti-windup by conditional integration: the error is
+/// integrated only while the unclamped output is inside [−1, 1] or the error
+/// drives it back inside; the integral term itself is also bounded to
+/// [−1, 1].
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpeedController {
+    /// Proportional gain, 1/(m/s). Default 0.5 (full demand at 2 m/s error).
+    pub kp: f64,
+    /// Integral gain, 1/(m/s·s) = 1/m. Default 0.15.
+    pub ki: f64,
+    integral: f64,
+}
+
+impl Default for SpeedController {
+    fn default() -> Self {
+        Self {
+            kp: 0.5,
+            ki: 0.15,
+            integral: 0.0,
+        }
+    }
+}
+
+impl SpeedController {
+    /// Controller with gains `kp` (1/(m/s)) and `ki` (1/m), both finite and
+    /// ≥ 0.
+    pub fn new(kp: f64, ki: f64) -> Result<Self, DriverError> {
+        Ok(Self {
+            kp: check("speed controller", "kp", kp, kp >= 0.0, "finite and >= 0")?,
+            ki: check("speed controller", "ki", ki, ki >= 0.0, "finite and >= 0")?,
+            integral: 0.0,
+        })
+    }
+
+    /// Forget the integral state.
+    pub fn reset(&mut self) {
+        self.integral = 0.0;
+    }
+
+    /// One control step: `target` and `speed` in m/s, `dt` in s. Returns
+    /// (drive, brake), each in 0..1, at most one non-zero. Non-finite input
+    /// or negative gains give (0, 0) and leave the state unchanged.
+    pub fn update(&mut self, target: f64, speed: f64, dt: f64) -> (f64, f64) {
+        let inputs = [target, speed, dt, self.kp, self.ki];
+        if inputs.iter().any(|v| !v.is_finite()) || self.kp < 0.0 || self.ki < 0.0 {
+            return (0.0, 0.0);
+        }
+        let error = target - speed;
+        if dt > 0.0 {
+            let candidate = self.integral + error * dt;
+            let unclamped = self.kp * error + self.ki * candidate;
+            let inside = (-1.0..=1.0).contains(&unclamped);
+            let unwinding = (unclamped > 1.0 && error < 0.0) || (unclamped < -1.0 && error > 0.0);
+            if inside || unwinding {
+                self.integral = candidate;
+            }
+            if self.ki > 0.0 {
+                let bound = 1.0 / self.ki;
+                self.integral = self.integral.clamp(-bound, bound);
+            }
+        }
+        let u = (self.kp * error + self.ki * self.integral).clamp(-1.0, 1.0);
+        if u > 0.0 { (u, 0.0) } else { (0.0, -u) }
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Paths
+
+/// A point of a reference path.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PathPoint {
+    /// Arc length along the path, m.
+    pub s: f64,
+    /// Position x, m.
+    pub x: f64,
+    /// Position y, m.
+    pub y: f64,
+    /// Path heading, rad.
+    pub heading: f64,
+    /// Signed path curvature, 1/m (positive turning left).
+    pub curvature: f64,
+    /// Signed distance of the query point from the path, m, positive when the
+    /// query point lies to the left of the path direction; 0.0 for points
+    /// returned by [`Path::point_at`].
+    pub cross_track_error: f64,
+}
+
+/// Lengths of the ISO 3888-1 double-lane-change sections, m (entry lane,
+/// lane change, side lane, lane change back, exit lane).
+pub const DOUBLE_LANE_CHANGE_SECTIONS: [f64; 5] = [15.0, 30.0, 25.0, 25.0, 15.0];
+/// ISO 3888-1 lateral offset of the side lane, m.
+pub const DOUBLE_LANE_CHANGE_OFFSET: f64 = 3.5;
+/// Station spacing of the arc-length table of the double lane change, m.
+const ARC_TABLE_STEP: f64 = 0.05;
+
+/// Centre line of the ISO 3888-1 double lane change in its own frame
+/// (ξ along the entry direction from the start of section 1, η to the left).
+///
+/// Sections 15, 30, 25, 25, 15 m with lateral offset 3.5 m (ISO 3888-1, from
+/// the project's reference notes). The centre line is η = 0 in the entry
+/// and exit lanes, η = offset in the side lane, and half-cosine transitions
+/// η = offset·(1 − cos(π·u))/2 across the two lane-change sections (our own
+/// choice, common practice): continuous slope, curvature steps of
+/// offset·π²/(2·ℓ²) at the section ends (0.019 1/m for ℓ = 30 m,
+/// 0.028 1/m for ℓ = 25 m). The 3.5 m offset is taken between lane centres.
+/// Before ξ = 0 and after the exit lane the path continues straight.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DoubleLaneChange {
+    origin_x: f64,
+    origin_y: f64,
+    heading: f64,
+    offset: f64,
+    /// Arc length at stations ξ_i = i·ARC_TABLE_STEP over the course.
+    arc: Vec<f64>,
+}
+
+impl DoubleLaneChange {
+    /// Course starting at (`x`, `y`) (m) heading `heading` (rad), side lane
+    /// `offset` m to the left (negative = right; ISO 3888-1: 3.5 m).
+    pub fn new(x: f64, y: f64, heading: f64, offset: f64) -> Result<Self, DriverError> {
+        let item = "double lane change";
+        check(item, "x", x, true, "finite")?;
+        check(item, "y", y, true, "finite")?;
+        check(item, "heading", heading, true, "finite")?;
+        check(item, "offset", offset, true, "finite")?;
+        let mut course = Self {
+            origin_x: x,
+            origin_y: y,
+            heading,
+            offset,
+            arc: Vec::new(),
+        };
+        let n = (Self::course_length() / ARC_TABLE_STEP).round() as usize;
+        let mut arc = Vec::with_capacity(n + 1);
+        arc.push(0.0);
+        for i in 0..n {
+            // Simpson's rule for ∫ sqrt(1 + η'²) dξ over one cell.
+            let (a, b) = (i as f64 * ARC_TABLE_STEP, (i + 1) as f64 * ARC_TABLE_STEP);
+            let g = |xi: f64| (1.0 + course.shape(xi).1.powi(2)).sqrt();
+            let cell = (b - a) / 6.0 * (g(a) + 4.0 * g(0.5 * (a + b)) + g(b));
+            arc.push(arc[i] + cell);
+        }
+        course.arc = arc;
+        Ok(course)
+    }
+
+    /// Total length of the five sections along ξ, m (110 m).
+    pub fn course_length() -> f64 {
+        DOUBLE_LANE_CHANGE_SECTIONS.iter().sum()
+    }
+
+    /// Centre-line arc length of the five sections, m.
+    pub fn arc_length(&self) -> f64 {
+        self.arc.last().copied().unwrap_or(0.0)
+    }
+
+    /// (η, dη/dξ, d²η/dξ²) of the centre line at station ξ (m).
+    fn shape(&self, xi: f64) -> (f64, f64, f64) {
+        let [l1, l2, l3, l4, _] = DOUBLE_LANE_CHANGE_SECTIONS;
+        let h = self.offset;
+        let up = |x0: f64, len: f64, rising: bool| {
+            let u = (xi - x0) / len;
+            let (s, c) = (PI * u).sin_cos();
+            let sign = if rising { 1.0 } else { -1.0 };
+            let base = if rising { 0.0 } else { h };
+            (
+                base + sign * h * 0.5 * (1.0 - c),
+                sign * h * 0.5 * PI / len * s,
+                sign * h * 0.5 * (PI / len).powi(2) * c,
+            )
+        };
+        if xi <= l1 {
+            (0.0, 0.0, 0.0)
+        } else if xi < l1 + l2 {
+            up(l1, l2, true)
+        } else if xi <= l1 + l2 + l3 {
+            (h, 0.0, 0.0)
+        } else if xi < l1 + l2 + l3 + l4 {
+            up(l1 + l2 + l3, l4, false)
+        } else {
+            (0.0, 0.0, 0.0)
+        }
+    }
+
+    fn arc_at_station(&self, xi: f64) -> f64 {
+        let end = Self::course_length();
+        if xi <= 0.0 || self.arc.len() < 2 {
+            return xi;
+        }
+        if xi >= end {
+            return self.arc_length() + (xi - end);
+        }
+        let f = xi / ARC_TABLE_STEP;
+        let i = (f.floor() as usize).min(self.arc.len() - 2);
+        let w = f - i as f64;
+        self.arc[i] + w * (self.arc[i + 1] - self.arc[i])
+    }
+
+    fn station_at_arc(&self, s: f64) -> f64 {
+        let end = Self::course_length();
+        if s <= 0.0 || self.arc.len() < 2 {
+            return s;
+        }
+        if s >= self.arc_length() {
+            return end + (s - self.arc_length());
+        }
+        let i = self
+            .arc
+            .partition_point(|&a| a <= s)
+            .clamp(1, self.arc.len() - 1);
+        let (a0, a1) = (self.arc[i - 1], self.arc[i]);
+        ((i - 1) as f64 + (s - a0) / (a1 - a0)) * ARC_TABLE_STEP
+    }
+
+    fn to_local(&self, x: f64, y: f64) -> (f64, f64) {
+        let (sin, cos) = self.heading.sin_cos();
+        let (dx, dy) = (x - self.origin_x, y - self.origin_y);
+        (cos * dx + sin * dy, -sin * dx + cos * dy)
+    }
+
+    fn point_at_station(&self, xi: f64, cross_track_error: f64) -> PathPoint {
+        let (eta, d1, d2) = self.shape(xi);
+        let (sin, cos) = self.heading.sin_cos();
+        PathPoint {
+            s: self.arc_at_station(xi),
+            x: self.origin_x + cos * xi - sin * eta,
+            y: self.origin_y + sin * xi + cos * eta,
+            heading: self.heading + d1.atan(),
+            curvature: d2 / (1.0 + d1 * d1).powf(1.5),
+            cross_track_error,
+        }
+    }
+
+    fn closest(&self, x: f64, y: f64) -> PathPoint {
+        let (px, py) = self.to_local(x, y);
+        // Newton on g(ξ) = (ξ − ξp) + (η(ξ) − ηp)·η'(ξ) = 0, from ξ = ξp.
+        let mut xi = px;
+        for _ in 0..8 {
+            let (eta, d1, d2) = self.shape(xi);
+            let g = (xi - px) + (eta - py) * d1;
+            let dg = 1.0 + d1 * d1 + (eta - py) * d2;
+            if dg <= 0.0 {
+                break;
+            }
+            let step = g / dg;
+            xi -= step;
+            if step.abs() < 1e-12 {
+                break;
+            }
+        }
+        let (eta, d1, _) = self.shape(xi);
+        let norm = (1.0 + d1 * d1).sqrt();
+        // Left normal of the local tangent (1, η')/norm is (−η', 1)/norm.
+        let e = (-(px - xi) * d1 + (py - eta)) / norm;
+        self.point_at_station(xi, e)
+    }
+}
+
+/// Reference path for [`PathFollower`].
+#[derive(Debug, Clone, PartialEq)]
+pub enum Path {
+    /// Straight line through (`x`, `y`) (m) with `heading` (rad); s = 0 at
+    /// that point.
+    Straight {
+        /// Point on the line, x, m.
+        x: f64,
+        /// Point on the line, y, m.
+        y: f64,
+        /// Direction of travel, rad.
+        heading: f64,
+    },
+    /// Circle of `radius` (m, > 0) about (`centre_x`, `centre_y`), travelled
+    /// anticlockwise (`Left`, centre on the left) or clockwise (`Right`);
+    /// s = 0 at the point due +x of the centre.
+    Circle {
+        /// Centre x, m.
+        centre_x: f64,
+        /// Centre y, m.
+        centre_y: f64,
+        /// Radius, m.
+        radius: f64,
+        /// Direction of travel.
+        direction: TurnDirection,
+    },
+    /// ISO 3888-1 double lane change.
+    DoubleLaneChange(DoubleLaneChange),
+}
+
+impl Path {
+    /// Straight line; all inputs finite.
+    pub fn straight(x: f64, y: f64, heading: f64) -> Result<Self, DriverError> {
+        Ok(Path::Straight {
+            x: check("straight path", "x", x, true, "finite")?,
+            y: check("straight path", "y", y, true, "finite")?,
+            heading: check("straight path", "heading", heading, true, "finite")?,
+        })
+    }
+
+    /// Circle; `radius` finite and > 0.
+    pub fn circle(
+        centre_x: f64,
+        centre_y: f64,
+        radius: f64,
+        direction: TurnDirection,
+    ) -> Result<Self, DriverError> {
+        Ok(Path::Circle {
+            centre_x: check("circle path", "centre_x", centre_x, true, "finite")?,
+            centre_y: check("circle path", "centre_y", centre_y, true, "finite")?,
+            radius: check(
+                "circle path",
+                "radius",
+                radius,
+                radius > 0.0,
+                "finite and > 0",
+            )?,
+            direction,
+        })
+    }
+
+    /// ISO 3888-1 double lane change, see [`DoubleLaneChange::new`].
+    pub fn double_lane_change(
+        x: f64,
+        y: f64,
+        heading: f64,
+        offset: f64,
+    ) -> Result<Self, DriverError> {
+        Ok(Path::DoubleLaneChange(DoubleLaneChange::new(
+            x, y, heading, offset,
+        )?))
+    }
+
+    /// Point of the path at arc length `s` (m).
+    pub fn point_at(&self, s: f64) -> PathPoint {
+        match self {
+            Path::Straight { x, y, heading } => {
+                let (sin, cos) = heading.sin_cos();
+                PathPoint {
+                    s,
+                    x: x + cos * s,
+                    y: y + sin * s,
+                    heading: *heading,
+                    curvature: 0.0,
+                    cross_track_error: 0.0,
+                }
+            }
+            Path::Circle {
+                centre_x,
+                centre_y,
+                radius,
+                direction,
+            } => {
+                let sign = direction.sign();
+                let theta = sign * s / radius;
+                let (sin, cos) = theta.sin_cos();
+                PathPoint {
+                    s,
+                    x: centre_x + radius * cos,
+                    y: centre_y + radius * sin,
+                    heading: theta + sign * 0.5 * PI,
+                    curvature: sign / radius,
+                    cross_track_error: 0.0,
+                }
+            }
+            Path::DoubleLaneChange(course) => {
+                let mut p = course.point_at_station(course.station_at_arc(s), 0.0);
+                p.s = s;
+                p
+            }
+        }
+    }
+
+    /// Closest point of the path to (`x`, `y`) (m), with the signed
+    /// cross-track error (positive when (`x`, `y`) lies left of the path).
+    /// On a circle s is taken in (−π·R, π·R].
+    pub fn closest(&self, x: f64, y: f64) -> PathPoint {
+        match self {
+            Path::Straight {
+                x: x0,
+                y: y0,
+                heading,
+            } => {
+                let (sin, cos) = heading.sin_cos();
+                let (dx, dy) = (x - x0, y - y0);
+                let mut p = self.point_at(cos * dx + sin * dy);
+                p.cross_track_error = -sin * dx + cos * dy;
+                p
+            }
+            Path::Circle {
+                centre_x,
+                centre_y,
+                radius,
+                direction,
+            } => {
+                let sign = direction.sign();
+                let (dx, dy) = (x - centre_x, y - centre_y);
+                let theta = dy.atan2(dx);
+                let mut p = self.point_at(sign * radius * theta);
+                // Centre on the left of a left-hand circle: inside is left.
+                p.cross_track_error = sign * (radius - dx.hypot(dy));
+                p
+            }
+            Path::DoubleLaneChange(course) => course.closest(x, y),
+        }
+    }
+
+    /// The point `distance` (m) of arc length ahead of the point of the path
+    /// closest to (`x`, `y`).
+    pub fn point_ahead(&self, x: f64, y: f64, distance: f64) -> PathPoint {
+        self.point_at(self.closest(x, y).s + distance)
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Path following
+
+/// Pure-pursuit path follower with integral correction of the cross-track
+/// error, an optional understeer feedforward, a steering limit and
+/// anti-windup.
+///
+/// Pure pursuit (Coulter, "Implementation of the Pure Pursuit Path Tracking
+/// Algorithm", CMU-RI-TR-92-01, 1992): the goal point lies a look-ahead
+/// ld = max(ld_min, k·speed) of arc length ahead of the closest path point;
+/// the arc through the vehicle tangent to its heading and through the goal
+/// has curvature κ = 2·sin(η)/l, with η the goal bearing from the heading
+/// and l the chord to the goal (≈ ld).
+///
+/// Integral correction (common practice): κ_i = −(2/ld²)·∫e dt / T_i with e
+/// the cross-track error. Linearising pure pursuit for small errors gives
+/// ë + (2v/ld)·ė + (2v²/ld²)·e = 0 (our derivation); adding the integral gives
+/// s³ + (2v/ld)s² + (2v²/ld²)s + 2v²/(ld²·T_i) = 0, stable (Routh) for
+/// T_i > ld/(2v), i.e. T_i > k/2 when ld = k·v.
+///
+/// Output: road-wheel angle δ = atan(L·κ) (kinematic bicycle, Rajamani §2.2
+/// from memory) plus the feedforward K_ff·v²·κ_path (Gillespie ch. 6 steady
+/// steer δ = L/R + K·ay), limited to ±`max_road_wheel_angle`, returned as
+/// steering-wheel angle δ·steering ratio.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PathFollower {
+    /// The path followed.
+    pub path: Path,
+    /// Minimum look-ahead distance ld_min, m. Default 4.0.
+    pub lookahead_min: f64,
+    /// Look-ahead time k (ld = k·speed), s. Default 0.5.
+    pub lookahead_time: f64,
+    /// Integral time T_i of the cross-track correction, s; `None` disables
+    /// it. Default `Some(2.0)`.
+    pub integral_time: Option<f64>,
+    /// Understeer feedforward K_ff, rad/(m/s²) of road-wheel angle per
+    /// lateral acceleration of the path. Default 0.0 (none).
+    pub understeer_feedforward: f64,
+    /// Road-wheel angle limit, rad. Default 0.6.
+    pub max_road_wheel_angle: f64,
+    integral: f64,
+    last_cross_track_error: f64,
+}
+
+impl PathFollower {
+    /// Follower of `path` with the default settings.
+    pub fn new(path: Path) -> Self {
+        Self {
+            path,
+            lookahead_min: 4.0,
+            lookahead_time: 0.5,
+            integral_time: Some(2.0),
+            understeer_feedforward: 0.0,
+            max_road_wheel_angle: 0.6,
+            integral: 0.0,
+            last_cross_track_error: 0.0,
+        }
+    }
+
+    /// Forget the integral state.
+    pub fn reset(&mut self) {
+        self.integral = 0.0;
+        self.last_cross_track_error = 0.0;
+    }
+
+    /// Check the public settings: look-ahead distance and time finite and
+    /// ≥ 0, integral time > 0 when given, feedforward finite, steering limit
+    /// finite in [0, π/2).
+    pub fn check_settings(&self) -> Result<(), DriverError> {
+        let item = "path follower";
+        let ld = self.lookahead_min;
+        check(item, "lookahead_min", ld, ld >= 0.0, "finite and >= 0")?;
+        let k = self.lookahead_time;
+        check(item, "lookahead_time", k, k >= 0.0, "finite and >= 0")?;
+        if let Some(ti) = self.integral_time {
+            check(item, "integral_time", ti, ti > 0.0, "finite and > 0")?;
+        }
+        check(
+            item,
+            "understeer_feedforward",
+            self.understeer_feedforward,
+            true,
+            "finite",
+        )?;
+        let max = self.max_road_wheel_angle;
+        let ok = (0.0..0.5 * PI).contains(&max);
+        check(
+            item,
+            "max_road_wheel_angle",
+            max,
+            ok,
+            "finite, in [0, π/2) rad",
+        )?;
+        Ok(())
+    }
+
+    /// Cross-track error seen at the last update, m (positive left).
+    pub fn cross_track_error(&self) -> f64 {
+        self.last_cross_track_error
+    }
+
+    /// Integral of the cross-track error, m·s.
+    pub fn integral(&self) -> f64 {
+        self.integral
+    }
+
+    /// One control step of `dt` s; returns the steering-wheel angle, rad
+    /// (positive left). A non-finite view, a wheelbase ≤ 0 or settings that
+    /// fail [`PathFollower::check_settings`] give NaN (for the caller's
+    /// finiteness check) and leave the state unchanged.
+    pub fn update(&mut self, view: &DriverView, dt: f64) -> f64 {
+        if self.check_settings().is_err() {
+            return f64::NAN;
+        }
+        let fields = [
+            view.x,
+            view.y,
+            view.yaw,
+            view.speed,
+            view.wheelbase,
+            view.steering_ratio,
+            dt,
+        ];
+        if fields.iter().any(|v| !v.is_finite()) || view.wheelbase <= 0.0 {
+            return f64::NAN;
+        }
+        let closest = self.path.closest(view.x, view.y);
+        let e = closest.cross_track_error;
+        self.last_cross_track_error = e;
+        let ld = self
+            .lookahead_min
+            .max(self.lookahead_time * view.speed.abs())
+            .max(1e-3);
+        let goal = self.path.point_at(closest.s + ld);
+        let (sin, cos) = view.yaw.sin_cos();
+        let (dx, dy) = (goal.x - view.x, goal.y - view.y);
+        let (lx, ly) = (cos * dx + sin * dy, -sin * dx + cos * dy);
+        let chord = lx.hypot(ly);
+        let curvature_pp = if chord > 1e-9 {
+            2.0 * ly / (chord * chord) // 2·sin(η)/l with sin η = ly/l
+        } else {
+            0.0
+        };
+        let l = view.wheelbase;
+        let max = self.max_road_wheel_angle;
+        let integral_gain = self.integral_time.map_or(0.0, |ti| 2.0 / (ld * ld * ti));
+        let feedforward = self.understeer_feedforward * view.speed * view.speed * closest.curvature;
+        let steer_for =
+            |integral: f64| (l * (curvature_pp - integral_gain * integral)).atan() + feedforward;
+
+        if integral_gain > 0.0 && dt > 0.0 {
+            // Conditional integration: not while saturated, unless unwinding.
+            let unclamped = steer_for(self.integral);
+            let inside = unclamped.abs() < max;
+            // κ_i = −gain·I: a positive error lowers the steer.
+            let unwinding = (unclamped >= max && e > 0.0) || (unclamped <= -max && e < 0.0);
+            if inside || unwinding {
+                self.integral += e * dt;
+            }
+            // The integral may at most command the largest curvature.
+            let bound = max.tan() / l / integral_gain;
+            self.integral = self.integral.clamp(-bound, bound);
+        }
+        let road_wheel = steer_for(self.integral).clamp(-max, max);
+        road_wheel * view.steering_ratio
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    const L: f64 = 2.7;
+    const RATIO: f64 = 16.0;
+    const DT: f64 = 1e-3;
+
+    /// Kinematic bicycle about the rear axle (Rajamani §2.2, from memory),
+    /// Euler-integrated; `understeer` K (rad/(m/s²)) scales the achieved
+    /// curvature by 1/(1 + K·v²/L) as a stand-in for tyre slip.
+    struct Toy {
+        x: f64,
+        y: f64,
+        yaw: f64,
+        speed: f64,
+        understeer: f64,
+    }
+
+    impl Toy {
+        fn view(&self) -> DriverView {
+            DriverView {
+                x: self.x,
+                y: self.y,
+                yaw: self.yaw,
+                speed: self.speed,
+                wheelbase: L,
+                steering_ratio: RATIO,
+            }
+        }
+        fn step(&mut self, steer_wheel_angle: f64) {
+            let commanded = (steer_wheel_angle / RATIO).tan() / L;
+            let actual = commanded / (1.0 + self.understeer * self.speed * self.speed / L);
+            self.x += self.speed * self.yaw.cos() * DT;
+            self.y += self.speed * self.yaw.sin() * DT;
+            self.yaw += self.speed * actual * DT;
+        }
+    }
+
+    /// Run for `duration` s; return the largest |cross-track error| over the
+    /// final `last` s and the largest |steering-wheel angle| overall.
+    fn drive(toy: &mut Toy, follower: &mut PathFollower, duration: f64, last: f64) -> (f64, f64) {
+        let n = (duration / DT) as usize;
+        let tail = ((duration - last) / DT) as usize;
+        let (mut worst, mut max_sw) = (0.0f64, 0.0f64);
+        for i in 0..n {
+            let sw = follower.update(&toy.view(), DT);
+            max_sw = max_sw.max(sw.abs());
+            toy.step(sw);
+            if i >= tail {
+                worst = worst.max(follower.path.closest(toy.x, toy.y).cross_track_error.abs());
+            }
+        }
+        (worst, max_sw)
+    }
+
+    #[test]
+    fn converges_onto_100_m_circle() {
+        let path = Path::circle(0.0, 100.0, 100.0, TurnDirection::Left).unwrap();
+        let mut follower = PathFollower::new(path);
+        // Start 0.5 m outside the circle, heading along the tangent.
+        let mut toy = Toy {
+            x: 0.0,
+            y: -0.5,
+            yaw: 0.0,
+            speed: 15.0,
+            understeer: 0.0,
+        };
+        let (worst, _) = drive(&mut toy, &mut follower, 40.0, 10.0);
+        println!("circle: max |e| over last 10 s = {worst:.2e} m");
+        assert!(worst < 0.01, "{worst}");
+    }
+
+    #[test]
+    fn same_inputs_give_bit_identical_steering() {
+        let run = || {
+            let path = Path::double_lane_change(0.0, 0.0, 0.1, 3.5).unwrap();
+            let mut follower = PathFollower::new(path);
+            let mut toy = Toy {
+                x: -5.0,
+                y: 0.3,
+                yaw: 0.1,
+                speed: 18.0,
+                understeer: 0.001,
+            };
+            let mut bits = Vec::new();
+            for _ in 0..5000 {
+                let sw = follower.update(&toy.view(), DT);
+                bits.push(sw.to_bits());
+                toy.step(sw);
+            }
+            bits
+        };
+        assert_eq!(run(), run());
+    }
+
+    #[test]
+    fn bad_settings_give_nan_not_panic() {
+        let path = Path::straight(0.0, 0.0, 0.0).unwrap();
+        let mut follower = PathFollower::new(path);
+        let toy = Toy {
+            x: 0.0,
+            y: 1.0,
+            yaw: 0.0,
+            speed: 20.0,
+            understeer: 0.0,
+        };
+        follower.max_road_wheel_angle = f64::NAN;
+        assert!(follower.update(&toy.view(), DT).is_nan());
+        follower.max_road_wheel_angle = 2.0;
+        assert!(follower.check_settings().is_err());
+        assert!(follower.update(&toy.view(), DT).is_nan());
+        follower.max_road_wheel_angle = 0.5;
+        follower.integral_time = Some(-1.0);
+        assert!(follower.update(&toy.view(), DT).is_nan());
+        follower.integral_time = None;
+        assert!(follower.update(&toy.view(), DT).is_finite());
+        let mut c = SpeedController {
+            ki: -1.0,
+            ..Default::default()
+        };
+        assert_eq!(c.update(20.0, 10.0, 0.01), (0.0, 0.0));
+    }
+
+    #[test]
+    fn converges_onto_straight_line_from_1_m_offset() {
+        let path = Path::straight(0.0, 0.0, 0.0).unwrap();
+        let mut follower = PathFollower::new(path);
+        let mut toy = Toy {
+            x: 0.0,
+            y: 1.0,
+            yaw: 0.0,
+            speed: 20.0,
+            understeer: 0.0,
+        };
+        let (worst, _) = drive(&mut toy, &mut follower, 20.0, 5.0);
+        println!("straight: max |e| over last 5 s = {worst:.2e} m");
+        assert!(worst < 0.01, "{worst}");
+    }
+
+    #[test]
+    fn integral_action_removes_understeer_offset() {
+        // K·v²/L = 0.002·400/2.7 ≈ 0.30: the car achieves only 77 % of the
+        // commanded curvature on a 100 m circle at 20 m/s (ay = 4 m/s²).
+        let run = |integral_time: Option<f64>| {
+            let path = Path::circle(0.0, 100.0, 100.0, TurnDirection::Left).unwrap();
+            let mut follower = PathFollower::new(path);
+            follower.integral_time = integral_time;
+            let mut toy = Toy {
+                x: 0.0,
+                y: 0.0,
+                yaw: 0.0,
+                speed: 20.0,
+                understeer: 0.002,
+            };
+            drive(&mut toy, &mut follower, 60.0, 10.0).0
+        };
+        let without = run(None);
+        let with = run(Some(2.0));
+        println!("understeer toy: offset without integral {without:.3} m, with {with:.2e} m");
+        assert!(
+            without > 0.1,
+            "pure pursuit alone should leave an offset: {without}"
+        );
+        assert!(with < 0.1, "{with}");
+    }
+
+    #[test]
+    fn steering_limit_holds_and_integral_stays_bounded() {
+        let path = Path::straight(0.0, 0.0, 0.0).unwrap();
+        let mut follower = PathFollower::new(path);
+        follower.max_road_wheel_angle = 0.3;
+        let mut toy = Toy {
+            x: 0.0,
+            y: 30.0,
+            yaw: PI / 2.0,
+            speed: 10.0,
+            understeer: 0.0,
+        };
+        let (worst, max_sw) = drive(&mut toy, &mut follower, 40.0, 5.0);
+        assert!(max_sw <= 0.3 * RATIO + 1e-12);
+        assert_relative_eq!(max_sw, 0.3 * RATIO, max_relative = 1e-12); // it did saturate
+        assert!(worst < 0.01, "{worst}");
+        let bound = 0.3f64.tan() / L / (2.0 / (5.0 * 5.0 * 2.0));
+        assert!(follower.integral().abs() <= bound);
+    }
+
+    #[test]
+    fn double_lane_change_geometry() {
+        let path = Path::double_lane_change(10.0, -2.0, 0.0, DOUBLE_LANE_CHANGE_OFFSET).unwrap();
+        let Path::DoubleLaneChange(course) = &path else {
+            unreachable!()
+        };
+        assert_eq!(DoubleLaneChange::course_length(), 110.0);
+        // Entry lane, mid-transition (half the offset), side lane, exit lane.
+        let at = |xi: f64| path.closest(10.0 + xi, -2.0 + 0.0).s;
+        let p = path.point_at(at(7.0));
+        assert_relative_eq!(p.y, -2.0, epsilon = 1e-12);
+        let mid = path.closest(10.0 + 30.0, -2.0 + 1.75);
+        assert!(mid.cross_track_error.abs() < 1e-9);
+        assert_relative_eq!(mid.x, 40.0, epsilon = 1e-9);
+        let side = path.closest(10.0 + 57.5, -2.0 + 3.5 + 0.4);
+        assert_relative_eq!(side.cross_track_error, 0.4, epsilon = 1e-12);
+        let exit = path.closest(10.0 + 100.0, -2.0 - 0.3);
+        assert_relative_eq!(exit.cross_track_error, -0.3, epsilon = 1e-12);
+        // Arc length longer than 110 m; each half-cosine of rise h over ℓ adds
+        // ≈ (π·h)²/(16·ℓ) m (small-slope expansion of ∫sqrt(1 + η'²)).
+        let extra = (PI * 3.5f64).powi(2) / 16.0 * (1.0 / 30.0 + 1.0 / 25.0);
+        assert_relative_eq!(course.arc_length() - 110.0, extra, max_relative = 0.02);
+        // point_at and closest agree, and points ahead move by arc length.
+        for s in [5.0, 20.0, 33.3, 50.0, 80.0, 120.0] {
+            let p = path.point_at(s);
+            let q = path.closest(p.x, p.y);
+            assert_relative_eq!(q.s, s, epsilon = 1e-6);
+            assert!(q.cross_track_error.abs() < 1e-9);
+            let ahead = path.point_ahead(p.x, p.y, 2.0);
+            let chord = (ahead.x - p.x).hypot(ahead.y - p.y);
+            assert!(chord <= 2.0 + 1e-9 && chord > 1.99, "{chord}");
+        }
+        // Peak curvature at the start of the first change: h·π²/(2ℓ²).
+        let c = path.point_at(15.0 + 1e-6).curvature;
+        assert_relative_eq!(c, 3.5 * PI * PI / (2.0 * 900.0), max_relative = 1e-6);
+    }
+
+    #[test]
+    fn follows_double_lane_change() {
+        let path = Path::double_lane_change(0.0, 0.0, 0.0, DOUBLE_LANE_CHANGE_OFFSET).unwrap();
+        let mut follower = PathFollower::new(path);
+        let mut toy = Toy {
+            x: -20.0,
+            y: 0.0,
+            yaw: 0.0,
+            speed: 60.0 / 3.6,
+            understeer: 0.0,
+        };
+        let (mut worst, n) = (0.0f64, (10.0 / DT) as usize);
+        for _ in 0..n {
+            let sw = follower.update(&toy.view(), DT);
+            toy.step(sw);
+            worst = worst.max(follower.cross_track_error().abs());
+        }
+        println!("double lane change at 60 km/h: max |e| = {worst:.3} m");
+        assert!(toy.x > 120.0);
+        assert!(worst < 0.5, "{worst}");
+        assert!(follower.cross_track_error().abs() < 0.01);
+    }
+
+    #[test]
+    fn speed_controller_holds_target_without_mixing_pedals() {
+        // Toy plant (invented): dv/dt = 4·drive − 8·brake − 0.03·v − 0.1.
+        let mut c = SpeedController::default();
+        let mut v = 10.0;
+        let dt = 0.01;
+        let (mut used_brake, mut worst) = (false, 0.0f64);
+        for i in 0..12_000 {
+            let t = i as f64 * dt;
+            let target = if t < 60.0 { 80.0 / 3.6 } else { 50.0 / 3.6 };
+            let (drive, brake) = c.update(target, v, dt);
+            assert!(drive == 0.0 || brake == 0.0);
+            assert!((0.0..=1.0).contains(&drive) && (0.0..=1.0).contains(&brake));
+            used_brake |= brake > 0.0;
+            v += (4.0 * drive - 8.0 * brake - 0.03 * v - 0.1) * dt;
+            if (40.0..60.0).contains(&t) || t >= 100.0 {
+                worst = worst.max((v - target).abs());
+            }
+        }
+        println!(
+            "speed controller: max |error| when settled = {:.2e} km/h",
+            worst * 3.6
+        );
+        assert!(used_brake);
+        assert!(worst * 3.6 < 0.1, "{}", worst * 3.6);
+        assert!(SpeedController::new(-1.0, 0.1).is_err());
+        assert_eq!(c.update(f64::NAN, 10.0, dt), (0.0, 0.0));
+    }
+}
