@@ -54,7 +54,12 @@ pub struct Cli {
 }
 
 fn version() -> &'static str {
-    concat!(env!("CARGO_PKG_VERSION"), " (", env!("YAWDYN_GIT_REVISION"), ")")
+    concat!(
+        env!("CARGO_PKG_VERSION"),
+        " (",
+        env!("YAWDYN_GIT_REVISION"),
+        ")"
+    )
 }
 
 #[derive(Debug, Subcommand)]

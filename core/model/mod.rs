@@ -19,6 +19,7 @@
 //! It does not integrate (see [`crate::sim`]) and does not know about
 //! manoeuvres or files.
 
+pub mod linear;
 mod state;
 
 pub use state::*;

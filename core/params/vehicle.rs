@@ -390,6 +390,16 @@ impl Vehicle {
         [w * self.b / self.wheelbase, w * self.a / self.wheelbase]
     }
 
+    /// The label of the drive unit on `axle` (empty when none or unlabelled).
+    pub fn file_label(&self, axle: usize) -> String {
+        let unit = if axle == FRONT {
+            &self.file.drive.front
+        } else {
+            &self.file.drive.rear
+        };
+        unit.as_ref().map(|u| u.label.clone()).unwrap_or_default()
+    }
+
     /// The resolved parameters as TOML text (round-trips to the same vehicle).
     pub fn to_toml(&self) -> String {
         toml::to_string(&self.file).unwrap_or_else(|e| format!("# cannot serialise: {e}\n"))
