@@ -29,6 +29,10 @@ pub use trim::{Trim, TrimSettings, TrimTarget, find_trim, retrim};
 /// divergence (doubling time ≈ 690 s). Common practice, no source.
 pub const UNSTABLE_REAL_PART: f64 = 1e-3;
 
+/// A mode is named after its two leading state groups ("tyre lag + wheel
+/// spin") when the second holds at least this participation share, 1.
+pub const COUPLED_SHARE: f64 = 0.3;
+
 /// Errors of the stability analysis.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum StabilityError {
@@ -96,7 +100,8 @@ pub struct Eigenvalue {
 /// One mode: a real eigenvalue or a complex-conjugate pair (listed once, im > 0).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Mode {
-    /// Name of the dominant state group, e.g. "yaw/sideslip".
+    /// Name of the dominant state group, e.g. "yaw/sideslip", or of the two
+    /// leading groups joined by " + " when the second has ≥ [`COUPLED_SHARE`].
     pub name: String,
     /// The eigenvalue (for a pair the one with im > 0), 1/s.
     pub eigenvalue: Eigenvalue,
@@ -225,16 +230,16 @@ fn modes(a: &nalgebra::DMatrix<f64>, ev: &[Complex<f64>]) -> Vec<Mode> {
         let oscillatory = l.im > pair_tol;
         let p = participation(a, l);
         let shares = group_shares(&p);
-        let dominant = shares
-            .iter()
-            .copied()
-            .fold((StateGroup::YawSideslip, f64::NEG_INFINITY), |best, s| {
-                if s.1 > best.1 { s } else { best }
-            })
-            .0;
+        let mut ranked = shares.clone();
+        ranked.sort_by(|p, q| q.1.total_cmp(&p.1));
+        let name = if ranked[1].1 >= COUPLED_SHARE {
+            format!("{} + {}", ranked[0].0.name(), ranked[1].0.name())
+        } else {
+            ranked[0].0.name().to_string()
+        };
         let mag = l.norm();
         out.push(Mode {
-            name: dominant.name().to_string(),
+            name,
             eigenvalue: Eigenvalue {
                 re: l.re,
                 im: if oscillatory { l.im } else { 0.0 },
