@@ -75,7 +75,7 @@ fn no_trim_message(requested: f64, ax: f64, largest: Option<f64>) -> String {
             l / g
         ),
         None => format!(
-            "no steady state even at zero lateral acceleration with ax {:.3} g",
+            "no steady state even at zero lateral acceleration with ax {:.3} g (drive torque or power insufficient, or beyond the grip)",
             ax / g
         ),
     }
@@ -264,21 +264,32 @@ fn yaw_share(m: &Mode) -> f64 {
         .map_or(0.0, |(_, s)| *s)
 }
 
-/// The yaw/sideslip mode: the complex pair with the largest vy/yaw-rate
-/// participation, or the two real modes with the largest, whichever holds more.
+/// The yaw/sideslip mode, chosen by participation of vy and yaw rate: either
+/// the complex pair with the largest share (score 2·share) or the two real
+/// modes with the largest shares (score s₁ + s₂, only when s₂ ≥
+/// [`COUPLED_SHARE`]), whichever scores higher. Near the critical speed of
+/// an oversteering car the divergent real root can merge with the
+/// longitudinal root into a slow complex pair; this rule then reports that pair.
 fn yaw_mode(modes: &[Mode]) -> Option<YawMode> {
-    let mut ranked: Vec<&Mode> = modes.iter().collect();
-    ranked.sort_by(|p, q| yaw_share(q).total_cmp(&yaw_share(p)));
-    let first = *ranked.first()?;
-    let (l1, l2) = if first.oscillatory {
-        let l = Complex::new(first.eigenvalue.re, first.eigenvalue.im);
-        (l, l.conj())
-    } else {
-        let second = ranked.iter().skip(1).find(|m| !m.oscillatory)?;
-        (
-            Complex::new(first.eigenvalue.re, 0.0),
-            Complex::new(second.eigenvalue.re, 0.0),
-        )
+    let pair = modes
+        .iter()
+        .filter(|m| m.oscillatory)
+        .max_by(|p, q| yaw_share(p).total_cmp(&yaw_share(q)))
+        .map(|m| (2.0 * yaw_share(m), m));
+    let mut real: Vec<&Mode> = modes.iter().filter(|m| !m.oscillatory).collect();
+    real.sort_by(|p, q| yaw_share(q).total_cmp(&yaw_share(p)));
+    let two_real = (real.len() >= 2 && yaw_share(real[1]) >= COUPLED_SHARE)
+        .then(|| (yaw_share(real[0]) + yaw_share(real[1]), real[0], real[1]));
+    let (l1, l2) = match (pair, two_real) {
+        (Some((ps, m)), rs) if rs.is_none_or(|(s, _, _)| ps >= s) => {
+            let l = Complex::new(m.eigenvalue.re, m.eigenvalue.im);
+            (l, l.conj())
+        }
+        (_, Some((_, a, b))) => (
+            Complex::new(a.eigenvalue.re, 0.0),
+            Complex::new(b.eigenvalue.re, 0.0),
+        ),
+        _ => return None,
     };
     let product = (l1 * l2).re;
     let sum = (l1 + l2).re;
