@@ -162,6 +162,23 @@ fn oversteer_car_is_unstable_above_critical_speed() {
     assert!((full_crit / v_crit - 1.0).abs() < 0.03);
 }
 
+/// Near the critical speed of the oversteering set (1.01·V_crit, Gillespie
+/// ch. 6) the reported yaw/sideslip mode is divergent: negative damping ratio
+/// or a saddle (NaN), and the car is flagged unstable; just below (0.99·V_crit)
+/// it is stable with a positive damping ratio.
+#[test]
+fn yaw_mode_reported_divergent_just_above_critical_speed() {
+    let v = vehicle(&[FAIR, OVERSTEER]);
+    let v_crit = bicycle_model(&v).critical_speed().unwrap();
+    let above = report(&v, 1.01 * v_crit, LOW_AY);
+    let zeta = above.yaw_mode.expect("yaw mode").damping_ratio;
+    assert!(!above.stable);
+    assert!(zeta.is_nan() || zeta < 0.0, "damping ratio {zeta}");
+    let below = report(&v, 0.95 * v_crit, LOW_AY);
+    assert!(below.stable);
+    assert!(below.yaw_mode.expect("yaw mode").damping_ratio > 0.0);
+}
+
 /// Gillespie ch. 6: local understeer gradient K and steady-state steer
 /// δ = L/R + K·ay of the full model at low ay agree with the bicycle model
 /// within 3 % (both sets).

@@ -616,6 +616,17 @@ fn finite(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
 }
 
+/// Plot title: "Yaw damping: <vehicle>", the name cut to fit the canvas.
+fn map_title(vehicle_name: &str) -> String {
+    let name: String = vehicle_name.chars().take(48).collect();
+    let cut = if name.len() < vehicle_name.len() {
+        "..."
+    } else {
+        ""
+    };
+    format!("Yaw damping: {name}{cut}")
+}
+
 /// Draws the yaw/sideslip damping ratio over the grid, unstable points hatched.
 pub fn plot_map(map: &StabilityMap, path: &Path) -> anyhow::Result<()> {
     let [n1, n0] = map.shape();
@@ -650,7 +661,7 @@ pub fn plot_map(map: &StabilityMap, path: &Path) -> anyhow::Result<()> {
         .collect();
     heat_map(
         path,
-        &format!("Yaw/sideslip damping ratio: {}", map.vehicle_name),
+        &map_title(&map.vehicle_name),
         &HeatMap {
             x_axis: &x_axis,
             y_axis: &y_axis,

@@ -203,3 +203,32 @@ pub fn participation(a: &DMatrix<f64>, lambda: Complex<f64>) -> Vec<f64> {
     let sum: f64 = p.iter().sum();
     p.into_iter().map(|x| x / sum).collect()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A block-triangular 3 × 3 matrix with known eigenvalues −1 ± 2i and −5
+    /// (invented): eigenvectors satisfy A·v = λ·v and participation of the
+    /// decoupled state in the pair is zero (Pérez-Arriaga et al. 1982: a state
+    /// that the mode does not reach has no participation).
+    #[test]
+    fn eigenvectors_and_participation_of_known_matrix() {
+        let a = DMatrix::from_row_slice(3, 3, &[-1.0, 2.0, 0.0, -2.0, -1.0, 0.0, 0.3, 0.7, -5.0]);
+        let ev = eigenvalues(&a);
+        assert!((ev[0] - Complex::new(-1.0, 2.0)).norm() < 1e-12);
+        assert!((ev[1] - Complex::new(-1.0, -2.0)).norm() < 1e-12);
+        assert!((ev[2] - Complex::new(-5.0, 0.0)).norm() < 1e-12);
+        let ac = a.map(|v| Complex::new(v, 0.0));
+        for &l in &ev {
+            let v = eigenvector(&a, l);
+            assert!((&ac * &v - &v * l).norm() < 1e-8);
+        }
+        let p = participation(&a, ev[0]);
+        assert!((p.iter().sum::<f64>() - 1.0).abs() < 1e-12);
+        assert!(p[2] < 1e-10, "{p:?}");
+        assert!((p[0] - 0.5).abs() < 1e-9 && (p[1] - 0.5).abs() < 1e-9);
+        let p = participation(&a, ev[2]);
+        assert!((p[2] - 1.0).abs() < 1e-9, "{p:?}");
+    }
+}
