@@ -490,3 +490,21 @@ fn stability_map_file_round_trip() {
         assert_eq!(a.yaw_damping_ratio.to_bits(), b.yaw_damping_ratio.to_bits());
     }
 }
+
+/// ISO 8855 (roll positive = right side down): in a steady left turn the
+/// body rolls towards the outside, right side down, and the right (outer)
+/// wheels carry more load (Milliken & Milliken ch. 18 load transfer).
+#[test]
+fn roll_is_positive_right_side_down_in_left_turn() {
+    let v = vehicle(&[]);
+    let r = report(&v, 25.0, 4.0);
+    assert!(r.trim.state[yawdyn::model::ROLL] > 0.0);
+    let e = evaluate(&v, &r.trim.state, &r.trim.commands);
+    assert!(e.wheels[1].fz > e.wheels[0].fz && e.wheels[3].fz > e.wheels[2].fz);
+    // Steady roll angle φ = m·ay·H/(KΦf + KΦr) (Milliken & Milliken ch. 18).
+    let l = v.wheelbase;
+    let h_axis =
+        v.roll_centre_height[0] + (v.roll_centre_height[1] - v.roll_centre_height[0]) * v.a / l;
+    let phi = v.mass * 4.0 * (v.cg_height - h_axis) / (v.roll_stiffness[0] + v.roll_stiffness[1]);
+    assert!((r.trim.state[yawdyn::model::ROLL] / phi - 1.0).abs() < 1e-6);
+}
