@@ -3,6 +3,7 @@
 //! any work starts.
 
 mod bench;
+mod stability;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -68,6 +69,8 @@ enum Command {
     Vehicle(vehicle::Args),
     /// Measure model speed: ns per derivative evaluation, real-time factor.
     Bench(bench::Args),
+    /// Trim in steady cornering, linearise and report eigenvalues, modes and stability (or a map with --vary).
+    Stability(stability::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -90,6 +93,7 @@ pub fn run() -> anyhow::Result<Outcome> {
     match cli.command {
         Command::Vehicle(args) => vehicle::run(args),
         Command::Bench(args) => bench::run(args),
+        Command::Stability(args) => stability::run(args),
     }
 }
 
