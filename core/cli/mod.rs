@@ -3,6 +3,8 @@
 //! any work starts.
 
 mod bench;
+mod run;
+mod show;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -68,6 +70,12 @@ enum Command {
     Vehicle(vehicle::Args),
     /// Measure model speed: ns per derivative evaluation, real-time factor.
     Bench(bench::Args),
+    /// Run a manoeuvre script and write the results file (HDF5).
+    ///
+    /// Exit codes: 0 success; 1 the run or a criterion failed; 2 bad input.
+    Run(run::Args),
+    /// Print the summary of a results file.
+    Show(show::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -90,6 +98,8 @@ pub fn run() -> anyhow::Result<Outcome> {
     match cli.command {
         Command::Vehicle(args) => vehicle::run(args),
         Command::Bench(args) => bench::run(args),
+        Command::Run(args) => run::run(args),
+        Command::Show(args) => show::run(args),
     }
 }
 
