@@ -450,7 +450,7 @@ fn register_inputs(engine: &mut Engine, session: &Shared) {
     }
     let s = session.clone();
     engine.register_fn("hold_speed", move |v: Dynamic| -> Res<()> {
-        let target = num(&v, "target speed")?;
+        let target = signal_of(&v, "target speed")?;
         let mut s = lock(&s);
         match s.speed_hold.as_mut() {
             Some((_, t)) => *t = target,
@@ -474,6 +474,7 @@ fn register_inputs(engine: &mut Engine, session: &Shared) {
         // Feedforward of the linear understeer (Gillespie ch. 6: δ = L/R + K·ay).
         f.understeer_feedforward = model::linear::understeer_gradient_si(&v).max(0.0);
         s.follower = Some(f);
+        s.max_cross_track_error = 0.0;
         Ok(())
     };
     let s = session.clone();
@@ -527,6 +528,14 @@ fn register_inputs(engine: &mut Engine, session: &Shared) {
             .follower
             .as_ref()
             .map_or(0.0, |f| f.cross_track_error())
+    });
+    let s = session.clone();
+    engine.register_fn("max_cross_track_error", move || -> f64 {
+        lock(&s).max_cross_track_error
+    });
+    let s = session.clone();
+    engine.register_fn("reset_max_cross_track_error", move || {
+        lock(&s).max_cross_track_error = 0.0;
     });
     let s = session.clone();
     engine.register_fn("controller", move |f: FnPtr| {

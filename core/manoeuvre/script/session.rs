@@ -410,7 +410,9 @@ pub(crate) struct Session {
     plant: Option<Plant>,
     vehicle_path: PathBuf,
     pub open: OpenLoop,
-    pub speed_hold: Option<(SpeedController, f64)>,
+    pub speed_hold: Option<(SpeedController, Signal)>,
+    /// Largest |cross-track error| of the path follower since the last reset, m.
+    pub max_cross_track_error: f64,
     pub follower: Option<PathFollower>,
     pub controller: Option<FnPtr>,
     /// Outputs of the drivers and of the controller at the last tick.
@@ -457,6 +459,7 @@ impl Session {
                 front_share: None,
             },
             speed_hold: None,
+            max_cross_track_error: 0.0,
             follower: None,
             controller: None,
             driver_out: Held::default(),
@@ -597,7 +600,7 @@ impl Session {
         let s = self.last_state;
         let mut out = Held::default();
         if let Some((controller, target)) = self.speed_hold.as_mut() {
-            let (drive, brake) = controller.update(*target, s.speed, dt);
+            let (drive, brake) = controller.update(target.value(s.time), s.speed, dt);
             out.drive = Some(drive);
             out.brake = Some(brake);
         }
@@ -611,6 +614,8 @@ impl Session {
                 steering_ratio: p.vehicle.steering_ratio,
             };
             out.steer = Some(f.update(&view, dt));
+            self.max_cross_track_error =
+                self.max_cross_track_error.max(f.cross_track_error().abs());
         }
         self.driver_out = out;
         s
