@@ -25,10 +25,15 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let record = read_hdf5(&args.file)
         .map_err(|e| bad_input(e.to_string()))
         .with_context(|| format!("cannot read results file {}", args.file.display()))?;
-    if args.json {
-        println!("{}", serde_json::to_string_pretty(&summary_json(&record))?);
+    let text = if args.json {
+        format!("{}\n", serde_json::to_string_pretty(&summary_json(&record))?)
     } else {
-        print!("{}", summary_text(&record));
+        summary_text(&record)
+    };
+    // A closed pipe (`yawdyn show f.h5 | head`) is not an error.
+    use std::io::Write;
+    match std::io::stdout().write_all(text.as_bytes()) {
+        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => Err(e.into()),
+        _ => Ok(Outcome::Success),
     }
-    Ok(Outcome::Success)
 }
