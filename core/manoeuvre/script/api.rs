@@ -324,7 +324,7 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
         let mut s = lock(&s);
         s.check_not_started("tick_rate(...)")?;
         let hz = num(&hz, "tick rate")?;
-        if !(hz >= 1.0 && hz <= 10_000.0) {
+        if !(1.0..=10_000.0).contains(&hz) {
             return Err(script_error(format!(
                 "tick rate must be in [1, 10000] Hz, got {hz}"
             )));
@@ -633,4 +633,46 @@ fn register_state(engine: &mut Engine) {
         };
     }
     wheels!(fz, fx, fy, slip_ratio, slip_angle, wheel_speed);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn controller_map_is_read_and_checked() {
+        let mut m = Map::new();
+        m.insert("drive".into(), Dynamic::from_float(1.5));
+        m.insert(
+            "axle_torque".into(),
+            Dynamic::from_array(array(&[100.0, 200.0])),
+        );
+        let h = controller_output(Dynamic::from_map(m)).unwrap();
+        assert_eq!(h.drive, Some(1.0), "drive clamped to 0..1");
+        assert_eq!(h.axle_torque, Some([100.0, 200.0]));
+        let mut bad = Map::new();
+        bad.insert("steering".into(), Dynamic::from_float(0.0));
+        let err = controller_output(Dynamic::from_map(bad))
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("unknown command `steering`"), "{err}");
+        assert!(controller_output(Dynamic::UNIT).is_ok());
+    }
+
+    #[test]
+    fn override_values_keep_their_toml_type() {
+        assert_eq!(
+            toml_value(&Dynamic::from_float(0.3)).unwrap(),
+            toml::Value::Float(0.3)
+        );
+        assert_eq!(
+            toml_value(&Dynamic::from_int(2)).unwrap(),
+            toml::Value::Integer(2)
+        );
+        assert_eq!(
+            toml_value(&Dynamic::from("locked")).unwrap(),
+            toml::Value::String("locked".into())
+        );
+        assert!(toml_value(&Dynamic::UNIT).is_err());
+    }
 }

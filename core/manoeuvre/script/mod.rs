@@ -103,8 +103,8 @@ pub enum ScriptError {
         /// What happened.
         message: String,
     },
-    /// The vehicle file (or an override) is wrong.
-    #[error("vehicle parameters: {source}")]
+    /// The vehicle file (or an override) is wrong; the cause lists every problem.
+    #[error("bad vehicle parameters")]
     Vehicle {
         /// The parameter problems.
         #[source]

@@ -680,7 +680,7 @@ impl Session {
     }
 
     /// Builds the record (consumes the simulation).
-    pub(crate) fn into_record(&mut self) -> Option<RunRecord> {
+    pub(crate) fn take_record(&mut self) -> Option<RunRecord> {
         let provenance = self.provenance();
         let plant = self.plant.as_mut()?;
         let vehicle_toml = plant.vehicle.to_toml();
@@ -851,7 +851,7 @@ pub(crate) fn execute(session: Shared, text: &str, path: &Path) -> Result<RunRec
     let (mut record, stopped) = {
         let mut s = lock(&session);
         let stopped = s.stop.is_some();
-        match s.into_record() {
+        match s.take_record() {
             Some(r) => (r, stopped),
             None => {
                 return Err(ScriptError::Runtime {
@@ -969,5 +969,50 @@ fn clone_param_error(e: &params::ParamError) -> params::ParamError {
             path: path.clone(),
             issues: issues.clone(),
         },
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn unknown_run_until_condition_suggests_the_closest() {
+        let mut map = Map::new();
+        map.insert("speed_abve".into(), Dynamic::from_float(10.0));
+        let err = Conditions::from_map(&map).unwrap_err().to_string();
+        assert!(err.contains("did you mean `speed_above`"), "{err}");
+    }
+
+    #[test]
+    fn steady_needs_a_full_window_within_the_band() {
+        let mut map = Map::new();
+        map.insert("steady".into(), Dynamic::from("yaw_rate"));
+        let c = Conditions::from_map(&map).unwrap();
+        let s = TickState::default();
+        let flat: VecDeque<(f64, f64)> = (0..=100).map(|i| (i as f64 * 0.01, 0.2)).collect();
+        assert_eq!(c.met(&s, &flat, 0.5), None, "window not yet full");
+        assert_eq!(c.met(&s, &flat, 1.0), Some("steady"));
+        let rising: VecDeque<(f64, f64)> = (0..=100)
+            .map(|i| (i as f64 * 0.01, 0.2 + 0.001 * i as f64))
+            .collect();
+        assert_eq!(c.met(&s, &rising, 1.0), None, "10 % change is not steady");
+    }
+
+    #[test]
+    fn controller_outputs_override_driver_outputs() {
+        let ctl = Held {
+            steer: Some(0.1),
+            ..Default::default()
+        };
+        let drv = Held {
+            steer: Some(0.5),
+            drive: Some(0.3),
+            ..Default::default()
+        };
+        let h = ctl.over(drv);
+        assert_eq!(h.steer, Some(0.1));
+        assert_eq!(h.drive, Some(0.3));
+        assert_eq!(h.brake, None);
     }
 }
