@@ -3,7 +3,7 @@
 //!
 //! A script's top level declares the setup (vehicle, overrides, rates,
 //! solver, start speed) and then runs phases imperatively (`run_for`,
-//! `run_until`). Inputs are evaluated in Rust: open-loop [`Signal`]s at the
+//! `run_until`). Inputs are evaluated in Rust: open-loop [`Signal`](crate::manoeuvre::Signal)s at the
 //! solver's time, closed-loop drivers and the script's per-tick controller at
 //! controller ticks, held between ticks (zero-order hold). No script code runs
 //! inside the derivative. After the run, the script's `evaluate(ch)` function
