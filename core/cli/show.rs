@@ -26,7 +26,10 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .map_err(|e| bad_input(e.to_string()))
         .with_context(|| format!("cannot read results file {}", args.file.display()))?;
     let text = if args.json {
-        format!("{}\n", serde_json::to_string_pretty(&summary_json(&record))?)
+        format!(
+            "{}\n",
+            serde_json::to_string_pretty(&summary_json(&record))?
+        )
     } else {
         summary_text(&record)
     };
