@@ -3,9 +3,9 @@
 //! any work starts.
 
 mod bench;
-mod stability;
 mod run;
 mod show;
+mod stability;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
