@@ -109,6 +109,9 @@ pub(crate) struct OpenLoop {
     pub brake: Signal,
     /// `None` = the vehicle's own split.
     pub front_share: Option<Signal>,
+    /// Total drive torque at the wheels, N·m, split by the front share
+    /// (replaces `drive` while set).
+    pub drive_torque: Option<Signal>,
 }
 
 /// The commands at any time: held tick outputs over open-loop signals.
@@ -121,17 +124,27 @@ struct Inputs<'a> {
 impl crate::sim::InputSource for Inputs<'_> {
     fn commands(&self, t: f64) -> Commands {
         let h = &self.held;
+        let front_share = h.front_share.unwrap_or_else(|| {
+            self.open
+                .front_share
+                .as_ref()
+                .map_or(self.default_front_share, |s| s.value(t))
+        });
+        let open_axle_torque = self.open.drive_torque.as_ref().map(|signal| {
+            let total = signal.value(t);
+            let share = front_share.clamp(0.0, 1.0);
+            [share * total, (1.0 - share) * total]
+        });
         Commands {
             steer_wheel_angle: h.steer.unwrap_or_else(|| self.open.steer.value(t)),
             drive_request: h.drive.unwrap_or_else(|| self.open.drive.value(t)),
             brake_request: h.brake.unwrap_or_else(|| self.open.brake.value(t)),
-            front_share: h.front_share.unwrap_or_else(|| {
-                self.open
-                    .front_share
-                    .as_ref()
-                    .map_or(self.default_front_share, |s| s.value(t))
+            front_share,
+            axle_torque: h.axle_torque.or(if h.drive.is_some() {
+                None
+            } else {
+                open_axle_torque
             }),
-            axle_torque: h.axle_torque,
             wheel_torque: h.wheel_torque,
             wheel_brake: h.wheel_brake,
         }
@@ -455,6 +468,7 @@ impl Session {
                 drive: zero(),
                 brake: zero(),
                 front_share: None,
+                drive_torque: None,
             },
             speed_hold: None,
             max_cross_track_error: 0.0,
