@@ -434,6 +434,10 @@ pub(crate) struct Session {
     last_state: TickState,
     pub phases: Vec<(String, f64)>,
     pub remembered: Vec<(String, f64)>,
+    /// Manoeuvre parameters given by the caller (`manoeuvre.<name>=value`).
+    pub manoeuvre_params: Vec<(String, toml::Value)>,
+    /// Parameters the script read with `param`, with the value it got.
+    pub params_read: Vec<(String, f64)>,
     pub metrics: Vec<Metric>,
     pub criteria: Vec<Criterion>,
     pub stop: Option<Stop>,
@@ -449,7 +453,16 @@ impl Session {
         progress: Option<mpsc::Sender<(f64, f64)>>,
     ) -> Self {
         let zero = || Signal::Constant(0.0);
+        let (manoeuvre, caller_overrides): (Vec<Override>, Vec<Override>) = caller_overrides
+            .into_iter()
+            .partition(|o| o.path.starts_with(super::MANOEUVRE_PREFIX));
+        let manoeuvre_params = manoeuvre
+            .into_iter()
+            .map(|o| (o.path[super::MANOEUVRE_PREFIX.len()..].to_string(), o.value))
+            .collect();
         Self {
+            manoeuvre_params,
+            params_read: Vec::new(),
             script_path: path.to_path_buf(),
             script_dir: path.parent().map(Path::to_path_buf).unwrap_or_default(),
             script_text: text.to_string(),
@@ -728,6 +741,11 @@ impl Session {
                 .map(|(name, v)| (format!("value.{name}"), format!("{v}"))),
         );
         extra.push(("start_speed".into(), format!("{}", self.start_speed)));
+        extra.extend(
+            self.params_read
+                .iter()
+                .map(|(name, v)| (format!("param.{name}"), format!("{v}"))),
+        );
         Provenance {
             yawdyn_version: super::version_text(),
             created_utc: super::now_utc(),
@@ -894,6 +912,23 @@ pub(crate) fn execute(session: Shared, text: &str, path: &Path) -> Result<RunRec
         }
     }
     let mut s = lock(&session);
+    let unread: Vec<&str> = s
+        .manoeuvre_params
+        .iter()
+        .filter(|(name, _)| !s.params_read.iter().any(|(r, _)| r == name))
+        .map(|(name, _)| name.as_str())
+        .collect();
+    if !unread.is_empty() {
+        let known: Vec<String> = s.params_read.iter().map(|(n, _)| format!("`{n}`")).collect();
+        return Err(ScriptError::Runtime {
+            at: position(path, Position::NONE),
+            message: format!(
+                "unknown manoeuvre parameter(s) {}; this script reads: {}",
+                unread.join(", "),
+                if known.is_empty() { "none".to_string() } else { known.join(", ") }
+            ),
+        });
+    }
     record.metrics = std::mem::take(&mut s.metrics);
     record.criteria = std::mem::take(&mut s.criteria);
     record
