@@ -22,5 +22,6 @@ pub mod params;
 pub mod plot;
 pub mod results;
 pub mod sim;
+pub mod sweep;
 pub mod table;
 pub mod tyre;
