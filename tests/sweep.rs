@@ -151,6 +151,23 @@ fn contents(path: &Path) -> Vec<(String, String)> {
     out
 }
 
+/// The file's bytes with its `created_utc` text blanked out: files of equal
+/// content must then be byte-identical (object time tracking is off).
+fn bytes_without_stamp(path: &Path) -> Vec<u8> {
+    let stamp = read_sweep(path).unwrap().created_utc;
+    assert_eq!(stamp.len(), 20, "{stamp}");
+    let mut bytes = std::fs::read(path).unwrap();
+    let found: Vec<usize> = bytes
+        .windows(stamp.len())
+        .enumerate()
+        .filter(|(_, w)| *w == stamp.as_bytes())
+        .map(|(i, _)| i)
+        .collect();
+    assert_eq!(found.len(), 1, "created_utc should appear once");
+    bytes[found[0]..found[0] + stamp.len()].fill(b'X');
+    bytes
+}
+
 #[test]
 fn grid_order_and_counts_in_the_file() {
     let dir = tempfile::tempdir().unwrap();
@@ -231,6 +248,7 @@ fn jobs_1_and_2_give_identical_files() {
     let (a, b) = (contents(&one), contents(&two));
     assert!(a.len() > 9 * 3, "too few objects compared: {}", a.len());
     assert_eq!(a, b);
+    assert_eq!(bytes_without_stamp(&one), bytes_without_stamp(&two));
     let file = read_sweep(&one).unwrap();
     assert!(
         file.summary
@@ -351,6 +369,7 @@ fn three_shards_merge_to_the_unsharded_file() {
     }
     assert_eq!(w.summary.status, m.summary.status);
     assert_eq!(contents(&whole), contents(&merged));
+    assert_eq!(bytes_without_stamp(&whole), bytes_without_stamp(&merged));
 }
 
 fn bits(v: &[f64]) -> Vec<u64> {
@@ -465,4 +484,61 @@ fn merge_command_refuses_bad_shards_with_exit_2() {
         "{}",
         stderr(&o)
     );
+}
+
+/// Performance figure, not an assertion: a 1,000-case corner-exit sweep with
+/// the direct-simulation runner (40 × 25 grid, 4 s manoeuvre, four channels
+/// stored). Run by hand:
+/// `SWEEP_JOBS=2 /usr/bin/time -v <test binary> --ignored --exact perf_direct_corner_exit_1000_cases`.
+#[test]
+#[ignore = "performance measurement, run by hand"]
+fn perf_direct_corner_exit_1000_cases() {
+    let jobs: usize = std::env::var("SWEEP_JOBS")
+        .ok()
+        .and_then(|j| j.parse().ok())
+        .unwrap_or(2);
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("perf.h5");
+    let spec = spec(
+        &["drive.front_share=0:1:40", "road.friction=0.5:1.0:25"],
+        Some(vec!["yaw_rate", "sideslip", "ay", "speed"]),
+    );
+    let runner = |o: &[Override]| corner_exit(o, 4.0);
+    let report = run_sweep(&spec, &options(jobs, Shard::WHOLE), &runner, &out).unwrap();
+    let size = std::fs::metadata(&out).unwrap().len();
+    println!(
+        "jobs {jobs}: {} cases, {} not completed, wall {:.2} s, file {:.1} MB",
+        report.summary.len(),
+        report.failed(),
+        report.wall_time_s,
+        size as f64 / 1e6
+    );
+}
+
+#[test]
+fn pool_has_exactly_jobs_threads() {
+    use std::collections::HashSet;
+    use std::sync::Mutex;
+    let dir = tempfile::tempdir().unwrap();
+    let spec = spec(&["drive.front_share=0:1:12"], None);
+    for jobs in [1usize, 2, 3] {
+        let seen = Mutex::new(HashSet::new());
+        let runner = |_: &[Override]| -> Result<RunRecord, String> {
+            seen.lock().unwrap().insert(std::thread::current().id());
+            // Long enough that every worker takes cases.
+            std::thread::sleep(std::time::Duration::from_millis(30));
+            Ok(RunRecord {
+                time: vec![0.0],
+                channels: vec![],
+                provenance: Provenance::default(),
+                status: RunStatus::Completed,
+                metrics: vec![],
+                criteria: vec![],
+            })
+        };
+        let out = dir.path().join(format!("pool{jobs}.h5"));
+        run_sweep(&spec, &options(jobs, Shard::WHOLE), &runner, &out).unwrap();
+        assert_eq!(seen.lock().unwrap().len(), jobs);
+        assert!(!seen.lock().unwrap().contains(&std::thread::current().id()));
+    }
 }
