@@ -405,7 +405,7 @@ fn merge_refuses_mismatched_or_incomplete_shards() {
         Ok(_) => panic!("merge accepted bad shards"),
     };
     // Missing shard, duplicated shard.
-    assert!(reason(merge_sweeps(&out, &[a1.clone()])).contains("in no shard"));
+    assert!(reason(merge_sweeps(&out, std::slice::from_ref(&a1))).contains("in no shard"));
     assert!(
         reason(merge_sweeps(&out, &[a1.clone(), a1.clone(), a2.clone()])).contains("more than one")
     );
@@ -541,4 +541,171 @@ fn pool_has_exactly_jobs_threads() {
         assert_eq!(seen.lock().unwrap().len(), jobs);
         assert!(!seen.lock().unwrap().contains(&std::thread::current().id()));
     }
+}
+
+/// A short power-on corner exit script for the command-line tests (2 s,
+/// 50 Hz samples), with one metric and one criterion that fails for
+/// `drive.front_share` above 0.5 (a bookkeeping check, not a physical limit).
+const TEST_SCRIPT: &str = r#"
+// Test manoeuvre: steer step at 20 m/s, then full drive request.
+sample_rate(50);
+start_speed(20.0);
+remember("front_share", vehicle_info().front_share);
+steer(step(0.0, deg(90), 0.2, deg(900)));
+run_for(1.0);
+drive(1.0);
+run_for(1.0);
+
+fn evaluate(ch) {
+    let n = ch.yaw_rate.len();
+    metric("final_yaw_rate", ch.yaw_rate[n - 1], "rad/s");
+    criterion("front_share_at_most_half", recall("front_share"), 0.0, 0.5);
+}
+"#;
+
+fn test_script(dir: &Path) -> String {
+    let path = dir.join("corner_exit_test.rhai");
+    std::fs::write(&path, TEST_SCRIPT).unwrap();
+    path.to_str().unwrap().to_string()
+}
+
+fn vehicle_arg() -> String {
+    manifest("scripts/vehicles/hybrid_crossover.toml")
+        .to_str()
+        .unwrap()
+        .to_string()
+}
+
+#[test]
+fn sweep_command_writes_file_prints_table_and_exit_code() {
+    let dir = tempfile::tempdir().unwrap();
+    let script = test_script(dir.path());
+    let vehicle = vehicle_arg();
+    let args = |extra: &[&str]| {
+        let mut a = vec!["sweep", script.as_str(), "--vehicle", vehicle.as_str()];
+        a.extend_from_slice(extra);
+        a
+    };
+    // All front shares ≤ 0.5: every case passes, exit 0, default output path.
+    let o = yawdyn(
+        dir.path(),
+        &args(&["--vary", "drive.front_share=0:0.5:3", "--jobs", "2"]),
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(stdout.contains("drive.front_share"), "{stdout}");
+    assert!(stdout.contains("final_yaw_rate [rad/s]"), "{stdout}");
+    assert!(stdout.contains("cases: 3"), "{stdout}");
+    let file = read_sweep(&dir.path().join("results/corner_exit_test_sweep.h5")).unwrap();
+    assert_eq!(file.case_count(), 3);
+    assert_eq!(file.spec.script_text, TEST_SCRIPT);
+    // Front shares above 0.5 miss the criterion: exit 1, statuses recorded.
+    let out = dir.path().join("half.h5");
+    let o = yawdyn(
+        dir.path(),
+        &args(&[
+            "--vary",
+            "drive.front_share=0:1:3",
+            "--channels",
+            "yaw_rate,ay",
+            "--quiet",
+            "--out",
+            out.to_str().unwrap(),
+        ]),
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let file = read_sweep(&out).unwrap();
+    assert_eq!(
+        file.summary.status,
+        vec![
+            CaseStatus::Completed,
+            CaseStatus::Completed,
+            CaseStatus::CriteriaFailed
+        ]
+    );
+    let case = file.read_case(2).unwrap();
+    let names: Vec<&str> = case.channels.iter().map(|c| c.name.as_str()).collect();
+    assert_eq!(names, vec!["yaw_rate", "ay"]);
+    // An unknown channel or parameter key is bad input, before any file is written.
+    let bad = dir.path().join("bad.h5");
+    for extra in [
+        vec!["--vary", "drive.front_share=0:1:2", "--channels", "yaw_rat"],
+        vec!["--vary", "drive.front_sharee=0:1:2"],
+    ] {
+        let mut e = extra.clone();
+        e.extend(["--out", bad.to_str().unwrap()]);
+        let o = yawdyn(dir.path(), &args(&e));
+        assert_eq!(o.status.code(), Some(2), "{e:?}: {}", stderr(&o));
+        assert!(!bad.exists());
+    }
+}
+
+#[test]
+fn sweep_command_jobs_and_shards_give_byte_identical_files() {
+    let dir = tempfile::tempdir().unwrap();
+    let script = test_script(dir.path());
+    let vehicle = vehicle_arg();
+    let run = |extra: &[&str], out: &str| {
+        let mut a = vec![
+            "sweep",
+            script.as_str(),
+            "--vehicle",
+            vehicle.as_str(),
+            "--vary",
+            "drive.front_share=0:0.5:3",
+            "--vary",
+            "road.friction=0.8:1.0:2",
+            "--quiet",
+            "--out",
+            out,
+        ];
+        a.extend_from_slice(extra);
+        let o = Command::new(env!("CARGO_BIN_EXE_yawdyn"))
+            .args(&a)
+            .current_dir(dir.path())
+            .env("SOURCE_DATE_EPOCH", "1764626400")
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(0), "{a:?}: {}", stderr(&o));
+    };
+    run(&["--jobs", "1"], "j1.h5");
+    run(&["--jobs", "2"], "j2.h5");
+    for k in 1..=3 {
+        run(
+            &["--jobs", "1", "--shard", &format!("{k}/3")],
+            &format!("s{k}.h5"),
+        );
+    }
+    let o = Command::new(env!("CARGO_BIN_EXE_yawdyn"))
+        .args(["merge", "merged.h5", "s3.h5", "s1.h5", "s2.h5"])
+        .current_dir(dir.path())
+        .env("SOURCE_DATE_EPOCH", "1764626400")
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let bytes = |name: &str| std::fs::read(dir.path().join(name)).unwrap();
+    assert_eq!(bytes("j1.h5"), bytes("j2.h5"));
+    assert_eq!(bytes("j1.h5"), bytes("merged.h5"));
+    assert_eq!(
+        read_sweep(&dir.path().join("j1.h5")).unwrap().created_utc,
+        "2025-12-01T22:00:00Z"
+    );
+    // A shard of a different sweep is refused.
+    run(
+        &[
+            "--jobs",
+            "1",
+            "--shard",
+            "3/3",
+            "--set",
+            "chassis.mass=1900",
+        ],
+        "other3.h5",
+    );
+    let o = yawdyn(
+        dir.path(),
+        &["merge", "bad.h5", "s1.h5", "s2.h5", "other3.h5"],
+    );
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("--set"), "{}", stderr(&o));
 }
