@@ -425,7 +425,7 @@ fn merge_refuses_mismatched_or_incomplete_shards() {
 
 // ----- the command line -----------------------------------------------------
 
-fn yawdyn(dir: &Path, args: &[&str]) -> Output {
+fn yawdyn<S: AsRef<std::ffi::OsStr>>(dir: &Path, args: &[S]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_yawdyn"))
         .args(args)
         .current_dir(dir)
@@ -581,10 +581,10 @@ fn sweep_command_writes_file_prints_table_and_exit_code() {
     let dir = tempfile::tempdir().unwrap();
     let script = test_script(dir.path());
     let vehicle = vehicle_arg();
-    let args = |extra: &[&str]| {
+    let args = |extra: &[&str]| -> Vec<String> {
         let mut a = vec!["sweep", script.as_str(), "--vehicle", vehicle.as_str()];
         a.extend_from_slice(extra);
-        a
+        a.into_iter().map(String::from).collect()
     };
     // All front shares ≤ 0.5: every case passes, exit 0, default output path.
     let o = yawdyn(

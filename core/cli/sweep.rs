@@ -105,9 +105,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
 /// Validates the raw options into a [`Config`] (bad input names the option).
 fn check(args: Args) -> anyhow::Result<Config> {
     if args.vary.is_empty() {
-        return Err(bad_input(
-            "give at least one --vary KEY=START:STOP:COUNT",
-        ));
+        return Err(bad_input("give at least one --vary KEY=START:STOP:COUNT"));
     }
     let axes = args
         .vary
@@ -136,12 +134,8 @@ fn check(args: Args) -> anyhow::Result<Config> {
         }
         None => None,
     };
-    let script_text = std::fs::read_to_string(&args.script).map_err(|e| {
-        bad_input(format!(
-            "cannot read script {}: {e}",
-            args.script.display()
-        ))
-    })?;
+    let script_text = std::fs::read_to_string(&args.script)
+        .map_err(|e| bad_input(format!("cannot read script {}: {e}", args.script.display())))?;
     if let Some(vehicle) = &args.vehicle
         && !vehicle.is_file()
     {
@@ -150,10 +144,10 @@ fn check(args: Args) -> anyhow::Result<Config> {
             vehicle.display()
         )));
     }
-    let stem = args
-        .script
-        .file_stem()
-        .map_or_else(|| "script".to_string(), |s| s.to_string_lossy().into_owned());
+    let stem = args.script.file_stem().map_or_else(
+        || "script".to_string(),
+        |s| s.to_string_lossy().into_owned(),
+    );
     let out = args.out.unwrap_or_else(|| {
         let name = if shard == Shard::WHOLE {
             format!("{stem}_sweep.h5")
@@ -233,23 +227,32 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
             }
             Ok(())
         }
-        Err(e @ (ScriptError::Read { .. } | ScriptError::Syntax { .. })) => {
-            Err(bad_input(e.to_string()))
-        }
+        Err(
+            e @ (ScriptError::Read { .. }
+            | ScriptError::Syntax { .. }
+            | ScriptError::Vehicle {
+                source: ParamError::Read { .. },
+            }),
+        ) => Err(bad_input(e.to_string())),
         Err(ScriptError::Vehicle {
             source: ParamError::Invalid { issues, .. },
-        }) if issues.iter().any(|i| i.message.starts_with("unknown key")) => {
-            let issue = issues
+        }) if issues.iter().any(|i| i.message.contains("unknown key")) => {
+            let lines: Vec<String> = issues
                 .iter()
-                .find(|i| i.message.starts_with("unknown key"))
-                .map(|i| i.to_string())
-                .unwrap_or_default();
-            let option = if config.spec.grid.keys().iter().any(|k| issue.contains(k.as_str())) {
-                "--vary"
-            } else {
-                "--set"
-            };
-            Err(bad_input(format!("{option}: {issue}")))
+                .filter(|i| i.message.contains("unknown key"))
+                .map(|i| {
+                    let option = if config.spec.grid.keys().contains(&i.path) {
+                        "--vary"
+                    } else if config.spec.base_overrides.iter().any(|o| o.path == i.path) {
+                        "--set"
+                    } else {
+                        "vehicle file:"
+                    };
+                    let message = i.message.replace("(from <--set>) ", "");
+                    format!("{option} {}: {message}", i.path)
+                })
+                .collect();
+            Err(bad_input(lines.join("\n")))
         }
         // Anything else may depend on the case's values: the sweep records it per case.
         Err(_) => Ok(()),
@@ -279,7 +282,12 @@ fn print_report(config: &Config, report: &SweepReport) {
         }
     }));
     headers.push("status".into());
-    headers.push("message".into());
+    let with_message = s.message[..s.len().min(MAX_ROWS)]
+        .iter()
+        .any(|m| !m.is_empty());
+    if with_message {
+        headers.push("message".into());
+    }
     let mut table = Table::new(headers);
     for row in 0..s.len().min(MAX_ROWS) {
         let mut cells = vec![s.case_index[row].to_string()];
@@ -287,6 +295,10 @@ fn print_report(config: &Config, report: &SweepReport) {
         cells.extend(metrics.iter().map(|m| fmt_num(m.values[row], 4)));
         cells.push(s.status[row].name().to_string());
         let message = &s.message[row];
+        if !with_message {
+            table.row(cells);
+            continue;
+        }
         cells.push(if message.chars().count() > MAX_MESSAGE {
             let cut: String = message.chars().take(MAX_MESSAGE - 1).collect();
             format!("{}…", cut.replace('\n', " "))

@@ -99,10 +99,8 @@ pub fn run_sweep(
     let mut writer = SweepWriter::create(out, spec, &stamp)?;
     let range = options.shard.range(spec.grid.len());
     let chunk = CHUNK_PER_JOB * options.jobs;
-    let mut first = range.start;
-    while first < range.end {
-        let last = (first + chunk).min(range.end);
-        let cases: Vec<SweepCase> = pool.install(|| {
+    let compute = |first: usize, last: usize| -> Vec<SweepCase> {
+        pool.install(|| {
             (first..last)
                 .into_par_iter()
                 .map(|index| {
@@ -113,11 +111,27 @@ pub fn run_sweep(
                     case
                 })
                 .collect()
+        })
+    };
+    // Pipeline: while the pool computes chunk k+1, this thread writes chunk k
+    // (in case-index order), so at most two chunks are in memory and the
+    // workers do not wait for the file.
+    let mut written: Vec<SweepCase> = Vec::new();
+    let mut first = range.start;
+    while first < range.end {
+        let last = (first + chunk).min(range.end);
+        let done = std::mem::take(&mut written);
+        let (next, wrote) = std::thread::scope(|scope| {
+            let worker = scope.spawn(|| compute(first, last));
+            let wrote = done.iter().try_for_each(|case| writer.write_case(case));
+            (worker.join(), wrote)
         });
-        for case in &cases {
-            writer.write_case(case)?;
-        }
+        wrote?;
+        written = next.map_err(|_| SweepError::Option("a sweep worker thread panicked".into()))?;
         first = last;
+    }
+    for case in &written {
+        writer.write_case(case)?;
     }
     let summary = writer.finish()?;
     Ok(SweepReport {

@@ -22,9 +22,9 @@
 //! ([`Shard::range`]).
 //!
 //! Cases run in parallel on a pool of exactly `jobs` threads, in chunks of
-//! `4 × jobs` cases; each chunk is written in case-index order before the
-//! next starts, so memory holds at most one chunk of cases and the file's
-//! contents do not depend on thread timing. Object modification times are
+//! `4 × jobs` cases; while the pool computes one chunk, the calling thread
+//! writes the previous one in case-index order, so memory holds at most two
+//! chunks of cases and the file's contents do not depend on thread timing. Object modification times are
 //! switched off for every group and dataset (HDF5 `obj_track_times`), so two
 //! sweeps of the same inputs give byte-identical files **except** for the
 //! root attribute `created_utc`; set the environment variable
