@@ -709,3 +709,29 @@ fn sweep_command_jobs_and_shards_give_byte_identical_files() {
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     assert!(stderr(&o).contains("--set"), "{}", stderr(&o));
 }
+
+/// Memory figure of `merge_sweeps`, not an assertion: merges the sweep file
+/// named by `SWEEP_MERGE_INPUT`. Run by hand under `/usr/bin/time -v`.
+#[test]
+#[ignore = "performance measurement, run by hand"]
+fn perf_merge_of_a_given_file() {
+    let Ok(input) = std::env::var("SWEEP_MERGE_INPUT") else {
+        return;
+    };
+    if std::env::var("SWEEP_READ_ONLY").is_ok() {
+        let file = read_sweep(Path::new(&input)).unwrap();
+        let mut samples = 0;
+        for &i in &file.summary.case_index {
+            samples += file.read_case(i).unwrap().time.len();
+        }
+        println!("read {samples} samples");
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let report = merge_sweeps(&dir.path().join("merged.h5"), &[PathBuf::from(input)]).unwrap();
+    println!(
+        "merged {} cases in {:.2} s",
+        report.summary.len(),
+        report.wall_time_s
+    );
+}

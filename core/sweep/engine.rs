@@ -229,8 +229,8 @@ fn run_case(spec: &SweepSpec, runner: &CaseRunner<'_>, index: usize) -> SweepCas
 ///
 /// Refuses ([`SweepError::Mismatch`]) shards whose script text, vary spec,
 /// base overrides or channel selection differ from the first one's, and sets
-/// of shards in which a case is missing or appears twice. Memory holds one
-/// case at a time.
+/// of shards in which a case is missing or appears twice; nothing is written
+/// then. Memory holds at most 64 cases (one read batch) at a time.
 pub fn merge_sweeps(out: &Path, shards: &[PathBuf]) -> Result<SweepReport, SweepError> {
     let started = Instant::now();
     let Some(first_path) = shards.first() else {

@@ -815,29 +815,42 @@ impl Ctx {
     }
 }
 
+/// Cases read per opening of a shard file in [`for_each_case`].
+const READ_BATCH: usize = 64;
+
 /// Reads every case of `file` in summary order, calling `each` for one at a
-/// time (so memory holds one case).
+/// time. The file is reopened every [`READ_BATCH`] cases: HDF5's caches of an
+/// open file grow with the objects visited, and closing it keeps the memory
+/// of a merge flat.
 pub(crate) fn for_each_case(
     file: &SweepFile,
     mut each: impl FnMut(SweepCase) -> Result<(), SweepError>,
 ) -> Result<(), SweepError> {
     let ctx = Ctx::new(&file.path);
-    let h5 = unlocked()
-        .open(&file.path)
-        .map_err(ctx.h5("opening the file as HDF5"))?;
-    let cases = ctx.open_group(&h5, "cases")?;
-    for &index in &file.summary.case_index {
-        let name = case_name(index, file.case_total);
-        let group = cases.group(&name).map_err(|_| {
-            ctx.invalid(format!(
-                "summary lists case {index} but /cases/{name} is missing"
-            ))
-        })?;
-        let case = ctx.read_case(&group)?;
-        if case.index != index {
-            return Err(ctx.invalid(format!("/cases/{name} holds case {}", case.index)));
+    for batch in file.summary.case_index.chunks(READ_BATCH) {
+        let mut cases = Vec::with_capacity(batch.len());
+        {
+            let h5 = unlocked()
+                .open(&file.path)
+                .map_err(ctx.h5("opening the file as HDF5"))?;
+            let group_of_cases = ctx.open_group(&h5, "cases")?;
+            for &index in batch {
+                let name = case_name(index, file.case_total);
+                let group = group_of_cases.group(&name).map_err(|_| {
+                    ctx.invalid(format!(
+                        "summary lists case {index} but /cases/{name} is missing"
+                    ))
+                })?;
+                let case = ctx.read_case(&group)?;
+                if case.index != index {
+                    return Err(ctx.invalid(format!("/cases/{name} holds case {}", case.index)));
+                }
+                cases.push(case);
+            }
         }
-        each(case)?;
+        for case in cases {
+            each(case)?;
+        }
     }
     Ok(())
 }
