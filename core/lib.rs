@@ -22,6 +22,7 @@ pub mod params;
 pub mod plot;
 pub mod results;
 pub mod sim;
+pub mod stability;
 pub mod sweep;
 pub mod table;
 pub mod tyre;

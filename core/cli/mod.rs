@@ -3,6 +3,11 @@
 //! any work starts.
 
 mod bench;
+mod merge;
+mod run;
+mod show;
+mod stability;
+mod sweep;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -68,6 +73,20 @@ enum Command {
     Vehicle(vehicle::Args),
     /// Measure model speed: ns per derivative evaluation, real-time factor.
     Bench(bench::Args),
+    /// Trim in steady cornering, linearise and report eigenvalues, modes and stability (or a map with --vary).
+    Stability(stability::Args),
+    /// Run a manoeuvre script and write the results file (HDF5).
+    ///
+    /// Exit codes: 0 success; 1 the run or a criterion failed; 2 bad input.
+    Run(run::Args),
+    /// Print the summary of a results file.
+    Show(show::Args),
+    /// Run a script over a grid of vehicle parameters, in parallel, into one sweep file.
+    ///
+    /// Exit codes: 0 every case completed and passed; 1 a case failed; 2 bad input.
+    Sweep(sweep::Args),
+    /// Join the shard files of one sweep into the file an unsharded run gives.
+    Merge(merge::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -90,6 +109,11 @@ pub fn run() -> anyhow::Result<Outcome> {
     match cli.command {
         Command::Vehicle(args) => vehicle::run(args),
         Command::Bench(args) => bench::run(args),
+        Command::Stability(args) => stability::run(args),
+        Command::Run(args) => run::run(args),
+        Command::Show(args) => show::run(args),
+        Command::Sweep(args) => sweep::run(args),
+        Command::Merge(args) => merge::run(args),
     }
 }
 
