@@ -735,3 +735,39 @@ fn perf_merge_of_a_given_file() {
         report.wall_time_s
     );
 }
+
+#[test]
+fn shipped_power_on_exit_script_sweeps_front_share() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("power_on_exit.h5");
+    let o = yawdyn(
+        Path::new(env!("CARGO_MANIFEST_DIR")),
+        &[
+            "sweep",
+            "scripts/power_on_exit.rhai",
+            "--vary",
+            "drive.front_share=0:1:2",
+            "--channels",
+            "yaw_rate,sideslip",
+            "--jobs",
+            "2",
+            "--quiet",
+            "--out",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let file = read_sweep(&out).unwrap();
+    assert_eq!(file.summary.status, vec![CaseStatus::Completed; 2]);
+    let peak = &file.summary.metric("sideslip_peak").unwrap().values;
+    // Power on the rear axle grows the sideslip more than power on the front
+    // axle (power-on oversteer vs understeer; common practice, as the script
+    // header describes).
+    assert!(peak[0] > peak[1], "sideslip peaks {peak:?}");
+    let case = file.read_case(1).unwrap();
+    assert_eq!(case.channels.len(), 2);
+    assert!(
+        case.overrides
+            .contains(&"drive.front_share=1.0".to_string())
+    );
+}
