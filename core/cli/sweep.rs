@@ -190,8 +190,20 @@ fn script_case_runner<'a>(
             overrides: overrides.to_vec(),
             progress: None,
         };
-        run_script(script, &options).map_err(|e| e.to_string())
+        run_script(script, &options).map_err(|e| with_causes(&e))
     }
+}
+
+/// An error and its chain of causes as one message (`error: cause: cause`).
+fn with_causes(e: &dyn std::error::Error) -> String {
+    let mut text = e.to_string();
+    let mut source = e.source();
+    while let Some(cause) = source {
+        text.push_str(": ");
+        text.push_str(&cause.to_string());
+        source = cause.source();
+    }
+    text
 }
 
 /// Catches input errors common to every case before the sweep starts, so
@@ -233,13 +245,13 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
             | ScriptError::Vehicle {
                 source: ParamError::Read { .. },
             }),
-        ) => Err(bad_input(e.to_string())),
+        ) => Err(bad_input(with_causes(&e))),
         Err(ScriptError::Vehicle {
             source: ParamError::Invalid { issues, .. },
-        }) if issues.iter().any(|i| i.message.contains("unknown key")) => {
+        }) if issues.iter().any(|i| is_key_problem(config, i)) => {
             let lines: Vec<String> = issues
                 .iter()
-                .filter(|i| i.message.contains("unknown key"))
+                .filter(|i| is_key_problem(config, i))
                 .map(|i| {
                     let option = if config.spec.grid.keys().contains(&i.path) {
                         "--vary"
@@ -257,6 +269,13 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
         // Anything else may depend on the case's values: the sweep records it per case.
         Err(_) => Ok(()),
     }
+}
+
+/// A parameter problem that every case shares: an unknown key anywhere, or a
+/// varied key that does not take a number.
+fn is_key_problem(config: &Config, issue: &yawdyn::params::ParamIssue) -> bool {
+    issue.message.contains("unknown key")
+        || (issue.message.contains("wrong type") && config.spec.grid.keys().contains(&issue.path))
 }
 
 /// Maps a sweep error to exit code 2 when it is the user's input.
