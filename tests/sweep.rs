@@ -631,6 +631,7 @@ fn sweep_command_writes_file_prints_table_and_exit_code() {
     for extra in [
         vec!["--vary", "drive.front_share=0:1:2", "--channels", "yaw_rat"],
         vec!["--vary", "drive.front_sharee=0:1:2"],
+        vec!["--vary", "drive.rear.differential.kind=0:1:2"],
     ] {
         let mut e = extra.clone();
         e.extend(["--out", bad.to_str().unwrap()]);
