@@ -309,7 +309,11 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
     let s = session.clone();
     engine.register_fn("param", move |name: &str, default: Dynamic| -> Res<f64> {
         let mut s = lock(&s);
-        let given = s.manoeuvre_params.iter().find(|(n, _)| n == name).map(|(_, v)| v.clone());
+        let given = s
+            .manoeuvre_params
+            .iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, v)| v.clone());
         let value = match given {
             Some(toml::Value::Float(x)) => x,
             Some(toml::Value::Integer(i)) => i as f64,
@@ -321,7 +325,9 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
             None => num(&default, "param default")?,
         };
         if !value.is_finite() {
-            return Err(script_error(format!("manoeuvre parameter `{name}` is not finite")));
+            return Err(script_error(format!(
+                "manoeuvre parameter `{name}` is not finite"
+            )));
         }
         if !s.params_read.iter().any(|(n, _)| n == name) {
             s.params_read.push((name.to_string(), value));

@@ -919,13 +919,21 @@ pub(crate) fn execute(session: Shared, text: &str, path: &Path) -> Result<RunRec
         .map(|(name, _)| name.as_str())
         .collect();
     if !unread.is_empty() {
-        let known: Vec<String> = s.params_read.iter().map(|(n, _)| format!("`{n}`")).collect();
+        let known: Vec<String> = s
+            .params_read
+            .iter()
+            .map(|(n, _)| format!("`{n}`"))
+            .collect();
         return Err(ScriptError::Runtime {
             at: position(path, Position::NONE),
             message: format!(
                 "unknown manoeuvre parameter(s) {}; this script reads: {}",
                 unread.join(", "),
-                if known.is_empty() { "none".to_string() } else { known.join(", ") }
+                if known.is_empty() {
+                    "none".to_string()
+                } else {
+                    known.join(", ")
+                }
             ),
         });
     }
