@@ -6,19 +6,8 @@ use yawdyn::model::linear::summarize;
 use yawdyn::params::{Override, load_vehicle};
 use yawdyn::results::RunStatus;
 
-/// Overrides that remove what the linear single-track model lacks (toe,
-/// camber, Ackermann, aero, rolling resistance).
-const LINEARISE: [&str; 9] = [
-    "steering.toe_front_deg=0.0",
-    "steering.toe_rear_deg=0.0",
-    "steering.ackermann=0.0",
-    "tyre.front.camber_deg=0.0",
-    "tyre.rear.camber_deg=0.0",
-    "aero.drag_area=0.0",
-    "aero.downforce_area=0.0",
-    "tyre.front.rolling_resistance=0.0",
-    "tyre.rear.rolling_resistance=0.0",
-];
+mod common;
+use common::LINEARISE;
 
 fn metric(record: &yawdyn::results::RunRecord, name: &str) -> f64 {
     record

@@ -8,6 +8,9 @@ use yawdyn::model::{Commands, State, VX, WHEEL_SPEED, straight_running};
 use yawdyn::params::{FRONT, GRAVITY, Override, REAR, Vehicle, load_vehicle};
 use yawdyn::sim::{Simulation, SolverSettings, channel_list};
 
+mod common;
+use common::LINEARISE;
+
 const CROSSOVER: &str = "scripts/vehicles/hybrid_crossover.toml";
 const TRACK_CAR: &str = "scripts/vehicles/track_car.toml";
 
@@ -15,20 +18,6 @@ fn vehicle(file: &str, sets: &[&str]) -> Vehicle {
     let overrides: Vec<Override> = sets.iter().map(|s| Override::parse(s).unwrap()).collect();
     load_vehicle(file.as_ref(), &overrides).unwrap_or_else(|e| panic!("{e}"))
 }
-
-/// Overrides that remove features the linear single-track model lacks:
-/// toe, camber, Ackermann, aero, rolling resistance.
-const LINEARISE: [&str; 9] = [
-    "steering.toe_front_deg=0.0",
-    "steering.toe_rear_deg=0.0",
-    "steering.ackermann=0.0",
-    "tyre.front.camber_deg=0.0",
-    "tyre.rear.camber_deg=0.0",
-    "aero.drag_area=0.0",
-    "aero.downforce_area=0.0",
-    "tyre.front.rolling_resistance=0.0",
-    "tyre.rear.rolling_resistance=0.0",
-];
 
 fn channel(sim: &Simulation, name: &str) -> Vec<f64> {
     let index = channel_list()

@@ -21,34 +21,16 @@
 use nalgebra::{DMatrix, DVector};
 
 use super::StabilityError;
+use super::linear::LINEAR_STATES;
 use crate::model::{
     AY_GEOMETRIC, Commands, PITCH, PITCH_RATE, ROLL, ROLL_RATE, SLIP_ANGLE, SLIP_RATIO, State, VX,
     VY, WHEEL_SPEED, YAW_RATE, evaluate, straight_running,
 };
 use crate::params::{FRONT, GRAVITY, REAR, Vehicle};
 
-/// States solved for in the trim (everything but X, Y, YAW and VX).
-pub const TRIM_STATES: [usize; 19] = [
-    VY,
-    YAW_RATE,
-    ROLL,
-    ROLL_RATE,
-    PITCH,
-    PITCH_RATE,
-    WHEEL_SPEED,
-    WHEEL_SPEED + 1,
-    WHEEL_SPEED + 2,
-    WHEEL_SPEED + 3,
-    SLIP_ANGLE,
-    SLIP_ANGLE + 1,
-    SLIP_ANGLE + 2,
-    SLIP_ANGLE + 3,
-    SLIP_RATIO,
-    SLIP_RATIO + 1,
-    SLIP_RATIO + 2,
-    SLIP_RATIO + 3,
-    AY_GEOMETRIC,
-];
+/// States solved for in the trim: the linearised states except VX (the speed
+/// is the trim's given condition).
+pub const TRIM_STATES: &[usize] = LINEAR_STATES.split_at(1).1;
 
 const N: usize = TRIM_STATES.len() + 2;
 

@@ -6,6 +6,21 @@ use std::path::{Path, PathBuf};
 use std::process::Command;
 use std::time::{Duration, Instant};
 
+/// Overrides that remove what the linear single-track model lacks: toe,
+/// camber, Ackermann, aero, rolling resistance (for checks against
+/// Gillespie ch. 6 / Rajamani ch. 2 closed forms).
+pub const LINEARISE: [&str; 9] = [
+    "steering.toe_front_deg=0.0",
+    "steering.toe_rear_deg=0.0",
+    "steering.ackermann=0.0",
+    "tyre.front.camber_deg=0.0",
+    "tyre.rear.camber_deg=0.0",
+    "aero.drag_area=0.0",
+    "aero.downforce_area=0.0",
+    "tyre.front.rolling_resistance=0.0",
+    "tyre.rear.rolling_resistance=0.0",
+];
+
 /// The repository root (where Cargo.toml is).
 pub fn repo_root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
