@@ -125,15 +125,16 @@ pub struct Deviation {
     /// Largest |result − baseline| over the compared samples, in `unit`
     /// (infinite when one side is NaN and the other is not).
     pub max_abs_deviation: f64,
-    /// Time of the sample with the largest deviation, s (`None` for metrics).
+    /// Time of the worst sample, s: the one with the largest ratio of
+    /// deviation to allowed deviation (`None` for metrics).
     pub time_s: Option<f64>,
-    /// Baseline value at that sample, in `unit`.
+    /// Baseline value at the worst sample, in `unit`.
     pub baseline: f64,
-    /// Result value at that sample, in `unit`.
+    /// Result value at the worst sample, in `unit`.
     pub result: f64,
-    /// Allowed deviation at that sample, atol + rtol·|baseline|, in `unit`.
+    /// Allowed deviation at the worst sample, atol + rtol·|baseline|, in `unit`.
     pub allowed: f64,
-    /// Largest ratio of deviation to allowed deviation over all samples
+    /// Ratio of deviation to allowed deviation at the worst sample
     /// (> 1 means outside tolerance; infinite for a NaN mismatch or a zero
     /// allowance with a non-zero deviation).
     pub worst_ratio: f64,
@@ -435,26 +436,26 @@ fn channel_deviation(
     b: &[f64],
     tolerance: Tolerance,
 ) -> Deviation {
-    let mut worst_dev = (0.0_f64, 0usize);
-    let mut worst_ratio = 0.0_f64;
+    let mut max_dev = 0.0_f64;
+    let mut worst = (0.0_f64, 0usize);
     let mut failed = 0;
     for (i, (&ai, &bi)) in a.iter().zip(b).enumerate() {
         let (dev, ratio) = deviation_and_ratio(ai, bi, tolerance);
         if !tolerance.accepts(ai, bi) {
             failed += 1;
         }
-        if dev > worst_dev.0 {
-            worst_dev = (dev, i);
+        max_dev = max_dev.max(dev);
+        if ratio > worst.0 {
+            worst = (ratio, i);
         }
-        worst_ratio = worst_ratio.max(ratio);
     }
-    let i = worst_dev.1;
+    let (worst_ratio, i) = worst;
     let at = |v: &[f64]| v.get(i).copied().unwrap_or(f64::NAN);
     Deviation {
         kind: ItemKind::Channel,
         name: name.to_string(),
         unit: unit.to_string(),
-        max_abs_deviation: worst_dev.0,
+        max_abs_deviation: max_dev,
         time_s: times.get(i).copied(),
         baseline: at(b),
         result: at(a),

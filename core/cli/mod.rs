@@ -3,6 +3,8 @@
 //! any work starts.
 
 mod bench;
+mod check;
+mod plot;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -68,6 +70,10 @@ enum Command {
     Vehicle(vehicle::Args),
     /// Measure model speed: ns per derivative evaluation, real-time factor.
     Bench(bench::Args),
+    /// Compare a results file with a baseline results file (regression check).
+    Check(check::Args),
+    /// Plot a results, sweep or stability-map file as SVG.
+    Plot(plot::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -90,6 +96,8 @@ pub fn run() -> anyhow::Result<Outcome> {
     match cli.command {
         Command::Vehicle(args) => vehicle::run(args),
         Command::Bench(args) => bench::run(args),
+        Command::Check(args) => check::run(args),
+        Command::Plot(args) => plot::run(args),
     }
 }
 

@@ -1,0 +1,225 @@
+//! `yawdyn plot FILE [--channels a,b,...] [--x CHANNEL] [--out FILE.svg]
+//! [--kind auto|time|xy|handling|gg|sweep|map] [--metric NAME] [--by PARAM]`:
+//! an SVG plot of a yawdyn HDF5 file, chosen by the file's root `format`
+//! attribute.
+//!
+//! Results files: stacked time histories in engineering units (deg, deg/s,
+//! km/h, g), a cross-plot against `--x`, the handling diagram, or the
+//! friction-usage (g-g) plot. Sweep files and stability maps are recognised
+//! but cannot be drawn until their readers exist in the library.
+//!
+//! Exit 0 when the plot was written; 2 for bad input (unreadable file,
+//! unknown channel, kind that does not fit the file).
+
+use std::path::{Path, PathBuf};
+
+use yawdyn::analysis::bicycle::STANDARD_GRAVITY;
+use yawdyn::plot::figures::{
+    FigureError, HandlingMethod, axis_label, channel_data, engineering_unit, file_format,
+    handling_data, stored_vehicle,
+};
+use yawdyn::plot::{Axis, Series, gg, handling_diagram, stacked};
+use yawdyn::results::{FORMAT_NAME, RunRecord, read_hdf5};
+
+use super::{Outcome, bad_input};
+
+/// Channels plotted when `--channels` is not given.
+const DEFAULT_CHANNELS: [&str; 5] = ["speed", "yaw_rate", "ay", "sideslip", "steer_wheel_angle"];
+
+/// Linear range of the handling-diagram fit, g (common practice: 0.4 g).
+const LINEAR_RANGE_G: f64 = 0.4;
+
+/// Root `format` of sweep files.
+const SWEEP_FORMAT: &str = "yawdyn-sweep";
+/// Root `format` of stability maps.
+const MAP_FORMAT: &str = "yawdyn-stability-map";
+
+/// What to draw.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum Kind {
+    /// From the file: handling diagram for results whose script path
+    /// contains "circle", time histories for other results, metric lines for
+    /// sweeps, heat map for stability maps.
+    Auto,
+    /// Stacked time histories.
+    Time,
+    /// Cross-plot of the channels against `--x`.
+    Xy,
+    /// Handling diagram: road-wheel angle against lateral acceleration.
+    Handling,
+    /// Friction usage: longitudinal against lateral acceleration.
+    Gg,
+    /// A metric against a swept parameter (sweep files).
+    Sweep,
+    /// A stability map (stability-map files).
+    Map,
+}
+
+/// Arguments of `yawdyn plot`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// yawdyn HDF5 file: results, sweep or stability map.
+    file: PathBuf,
+    /// Channels to plot, comma-separated (default: speed, yaw_rate, ay, sideslip, steer_wheel_angle).
+    #[arg(long, value_delimiter = ',')]
+    channels: Vec<String>,
+    /// Channel on the x axis (cross-plot) instead of time.
+    #[arg(long, value_name = "CHANNEL")]
+    x: Option<String>,
+    /// SVG file to write (default: the input file name with .svg).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    /// Kind of plot.
+    #[arg(long, value_enum, default_value_t = Kind::Auto)]
+    kind: Kind,
+    /// Metric to plot (sweep files).
+    #[arg(long)]
+    metric: Option<String>,
+    /// Second swept parameter: one line per value (sweep files).
+    #[arg(long, value_name = "PARAM")]
+    by: Option<String>,
+}
+
+fn figure_error(e: FigureError) -> anyhow::Error {
+    bad_input(e.to_string())
+}
+
+/// Runs `yawdyn plot`.
+pub fn run(args: Args) -> anyhow::Result<Outcome> {
+    let format = file_format(&args.file).map_err(figure_error)?;
+    let out = args
+        .out
+        .clone()
+        .unwrap_or_else(|| args.file.with_extension("svg"));
+    match format.as_str() {
+        FORMAT_NAME => {}
+        SWEEP_FORMAT | MAP_FORMAT => {
+            return Err(anyhow::anyhow!(
+                "{}: {format} files cannot be plotted by this build yet (their reader is not \
+                 in the library)",
+                args.file.display()
+            ));
+        }
+        other => {
+            return Err(bad_input(format!(
+                "{}: not a yawdyn file this command can plot (format {other:?})",
+                args.file.display()
+            )));
+        }
+    }
+    let record = read_hdf5(&args.file).map_err(|e| bad_input(e.to_string()))?;
+    let kind = match args.kind {
+        Kind::Auto if record.provenance.script_path.contains("circle") => Kind::Handling,
+        Kind::Auto if args.x.is_some() => Kind::Xy,
+        Kind::Auto => Kind::Time,
+        Kind::Sweep | Kind::Map => {
+            return Err(bad_input(format!(
+                "--kind {} needs a sweep or stability-map file; {} is a results file",
+                if args.kind == Kind::Sweep {
+                    "sweep"
+                } else {
+                    "map"
+                },
+                args.file.display()
+            )));
+        }
+        k => k,
+    };
+    let title = title_of(&args.file, &record);
+    match kind {
+        Kind::Time | Kind::Xy => histories(&args, &record, &title, &out)?,
+        Kind::Handling => handling(&record, &title, &out)?,
+        Kind::Gg => friction_usage(&record, &title, &out)?,
+        Kind::Auto | Kind::Sweep | Kind::Map => unreachable!("resolved above"),
+    }
+    println!("wrote {}", out.display());
+    Ok(Outcome::Success)
+}
+
+fn title_of(file: &Path, record: &RunRecord) -> String {
+    let name = file
+        .file_name()
+        .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
+    match record.provenance.script_path.as_str() {
+        "" => name,
+        script => format!("{name} ({script})"),
+    }
+}
+
+/// A channel's samples in display units, with its axis title.
+fn display_channel(record: &RunRecord, name: &str) -> anyhow::Result<(Vec<f64>, String)> {
+    let data = channel_data(record, name).map_err(figure_error)?;
+    let unit = record.channel(name).map_or("", |c| c.unit.as_str());
+    let eng = engineering_unit(unit);
+    Ok((
+        data.iter().map(|v| v * eng.factor).collect(),
+        axis_label(name, &eng.unit),
+    ))
+}
+
+fn histories(args: &Args, record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
+    let names: Vec<String> = if args.channels.is_empty() {
+        DEFAULT_CHANNELS.iter().map(|s| s.to_string()).collect()
+    } else {
+        args.channels.clone()
+    };
+    let (x, x_label) = match &args.x {
+        Some(name) => display_channel(record, name)?,
+        None => (record.time.clone(), "time [s]".to_string()),
+    };
+    let mut panels = Vec::with_capacity(names.len());
+    for name in &names {
+        let (y, label) = display_channel(record, name)?;
+        let series = Series::new(name.replace('_', " "), x.clone(), y);
+        panels.push((Axis::new(label), vec![series]));
+    }
+    stacked(out, title, &Axis::new(x_label), &panels)?;
+    Ok(())
+}
+
+fn handling(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
+    let data =
+        handling_data(record, LINEAR_RANGE_G * STANDARD_GRAVITY).map_err(figure_error)?;
+    let fit = data.fit;
+    let method = match data.method {
+        HandlingMethod::ConstantRadius { radius_m } => {
+            format!("road-wheel angle, constant radius {radius_m} m")
+        }
+        HandlingMethod::AckermannCorrected => {
+            "road-wheel angle minus Ackermann angle L*curvature".to_string()
+        }
+    };
+    handling_diagram(
+        out,
+        &format!("{title}: {method}"),
+        &data.lat_accel_g,
+        &data.steer_deg,
+        Some((fit.gradient_deg_per_g, fit.intercept_deg, fit.ay_max_g)),
+    )?;
+    println!(
+        "understeer gradient {:.3} deg/g ({} points, |ay| <= {LINEAR_RANGE_G} g, R^2 {:.4})",
+        fit.gradient_deg_per_g, fit.count, fit.r_squared
+    );
+    Ok(())
+}
+
+fn friction_usage(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
+    let g = STANDARD_GRAVITY;
+    let ax: Vec<f64> = channel_data(record, "ax")
+        .map_err(figure_error)?
+        .iter()
+        .map(|a| a / g)
+        .collect();
+    let ay: Vec<f64> = channel_data(record, "ay")
+        .map_err(figure_error)?
+        .iter()
+        .map(|a| a / g)
+        .collect();
+    // Reference circle at the road friction of the stored vehicle, if any.
+    let mu = stored_vehicle(record)
+        .ok()
+        .map(|v| v.road_friction)
+        .filter(|m| m.is_finite() && *m > 0.0);
+    gg(out, title, &ax, &ay, mu)?;
+    Ok(())
+}
