@@ -139,7 +139,14 @@ fn two_percent_heavier_car_fails_then_passes_loose_tolerance_then_update() {
     let out = yawdyn(
         dir.path(),
         &[
-            "check", "heavy.h5", "--against", "base.h5", "--rtol", "0.05", "--atol", "5",
+            "check",
+            "heavy.h5",
+            "--against",
+            "base.h5",
+            "--rtol",
+            "0.05",
+            "--atol",
+            "5",
         ],
     );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out));

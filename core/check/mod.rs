@@ -493,7 +493,7 @@ fn align(result: &[f64], baseline: &[f64]) -> Alignment {
         return Alignment::Identical;
     }
     let (lo, hi) = common_range(result, baseline);
-    if !(lo <= hi) {
+    if lo.is_nan() || hi.is_nan() || lo > hi {
         return Alignment::NoOverlap;
     }
     let range = inside(baseline, lo, hi);
@@ -639,12 +639,18 @@ mod tests {
     #[test]
     fn interpolates_onto_baseline_times() {
         // A straight line is reproduced exactly by linear interpolation.
-        let b = record(vec![0.0, 0.25, 0.5, 0.75, 1.0], vec![0.0, 0.5, 1.0, 1.5, 2.0]);
+        let b = record(
+            vec![0.0, 0.25, 0.5, 0.75, 1.0],
+            vec![0.0, 0.5, 1.0, 1.5, 2.0],
+        );
         let t: Vec<f64> = (0..=10).map(|i| i as f64 * 0.1).collect();
         let y = t.iter().map(|t| 2.0 * t).collect();
         let r = record(t, y);
         let c = compare(&r, &b, Tolerance::default());
-        assert!(matches!(c.alignment, Alignment::Interpolated { samples: 5, .. }));
+        assert!(matches!(
+            c.alignment,
+            Alignment::Interpolated { samples: 5, .. }
+        ));
         assert!(c.passed(), "{c:#?}");
     }
 

@@ -178,8 +178,7 @@ fn histories(args: &Args, record: &RunRecord, title: &str, out: &Path) -> anyhow
 }
 
 fn handling(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
-    let data =
-        handling_data(record, LINEAR_RANGE_G * STANDARD_GRAVITY).map_err(figure_error)?;
+    let data = handling_data(record, LINEAR_RANGE_G * STANDARD_GRAVITY).map_err(figure_error)?;
     let fit = data.fit;
     let method = match data.method {
         HandlingMethod::ConstantRadius { radius_m } => {

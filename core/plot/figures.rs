@@ -314,6 +314,94 @@ mod tests {
         assert_eq!(axis_label("front_share", "1"), "front share [-]");
     }
 
+    use crate::results::{Channel, Metric, Provenance, RunStatus};
+
+    /// A synthetic steady-state record obeying δ = L·κ + K·ay exactly
+    /// (Gillespie, "Fundamentals of Vehicle Dynamics", ch. 6), at constant
+    /// speed (κ = ay/V²) or, with `radius`, on a constant radius.
+    fn steady_record(gradient: f64, radius: Option<f64>) -> (RunRecord, Vehicle) {
+        let path = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/scripts/vehicles/hybrid_crossover.toml"
+        );
+        let vehicle = crate::params::load_vehicle(Path::new(path), &[]).unwrap();
+        let (l, ratio, v) = (vehicle.wheelbase, vehicle.steering_ratio, 20.0);
+        let ay: Vec<f64> = (0..=60).map(|i| i as f64 * 0.1).collect();
+        let curvature: Vec<f64> = ay
+            .iter()
+            .map(|a| radius.map_or(a / (v * v), |r| 1.0 / r))
+            .collect();
+        let steer: Vec<f64> = ay
+            .iter()
+            .zip(&curvature)
+            .map(|(a, k)| ratio * (l * k + gradient * a))
+            .collect();
+        let ch = |name: &str, unit: &str, data: Vec<f64>| Channel {
+            name: name.into(),
+            unit: unit.into(),
+            description: String::new(),
+            data,
+        };
+        let n = ay.len();
+        let record = RunRecord {
+            time: (0..n).map(|i| i as f64).collect(),
+            channels: vec![
+                ch("ay", "m/s^2", ay),
+                ch("steer_wheel_angle", "rad", steer),
+                ch("path_curvature", "1/m", curvature),
+                ch("speed", "m/s", vec![v; n]),
+            ],
+            provenance: Provenance {
+                vehicle_toml: vehicle.to_toml(),
+                vehicle_path: path.into(),
+                ..Provenance::default()
+            },
+            status: RunStatus::Completed,
+            metrics: radius
+                .map(|r| Metric {
+                    name: "radius".into(),
+                    value: r,
+                    unit: "m".into(),
+                })
+                .into_iter()
+                .collect(),
+            criteria: Vec::new(),
+        };
+        (record, vehicle)
+    }
+
+    #[test]
+    fn handling_fit_recovers_understeer_gradient_at_constant_speed() {
+        let k = 0.004; // rad/(m/s²)
+        let (record, _) = steady_record(k, None);
+        let d = handling_data(&record, 4.0).unwrap();
+        assert_eq!(d.method, HandlingMethod::AckermannCorrected);
+        let expected = k.to_degrees() * STANDARD_GRAVITY; // 2.2475 deg/g
+        assert!((d.fit.gradient_deg_per_g - expected).abs() < 1e-9);
+        assert!(d.fit.intercept_deg.abs() < 1e-9);
+        assert_eq!(d.fit.count, 41); // ay = 0.0 ..= 4.0 m/s²
+    }
+
+    #[test]
+    fn handling_fit_uses_stored_radius() {
+        let k = -0.001; // an oversteerer
+        let (record, vehicle) = steady_record(k, Some(50.0));
+        let d = handling_data(&record, 4.0).unwrap();
+        assert_eq!(d.method, HandlingMethod::ConstantRadius { radius_m: 50.0 });
+        assert!((d.fit.gradient_deg_per_g - k.to_degrees() * STANDARD_GRAVITY).abs() < 1e-9);
+        // Intercept = Ackermann angle L/R.
+        let ackermann = (vehicle.wheelbase / 50.0).to_degrees();
+        assert!((d.fit.intercept_deg - ackermann).abs() < 1e-9);
+    }
+
+    #[test]
+    fn handling_fit_names_missing_channel() {
+        let (mut record, _) = steady_record(0.004, None);
+        record.channels.retain(|c| c.name != "ay");
+        let err = handling_data(&record, 4.0).unwrap_err();
+        assert!(err.to_string().contains("`ay`"), "{err}");
+    }
+
     #[test]
     fn closest_names_ranks_by_similarity() {
         let names = ["yaw_rate", "yaw", "speed", "ay"];
