@@ -8,7 +8,7 @@
 //! - [`bicycle`]: linear single-track (bicycle) model — understeer gradient,
 //!   characteristic and critical speed, steady-state gains, state matrix and
 //!   eigenvalues (Gillespie ch. 6, Rajamani ch. 2).
-//! - [`step_response`]: ISO 7401 step-steer metrics.
+//! - [`step_response`](mod@step_response): ISO 7401 step-steer metrics.
 //! - [`handling`]: ISO 4138 constant-radius understeer gradient and a
 //!   least-squares line fit.
 //! - [`sine_dwell`]: FMVSS 126 sine-with-dwell evaluation.

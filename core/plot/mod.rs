@@ -82,12 +82,12 @@ impl Series {
 /// Description of one plot axis.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Axis {
-    /// Axis title with its unit in brackets, e.g. "lateral acceleration [g]".
+    /// Axis title with its unit in brackets, e.g. `"lateral acceleration [g]"`.
     pub label: String,
 }
 
 impl Axis {
-    /// An axis with the given title (include the unit, e.g. "time [s]").
+    /// An axis with the given title (include the unit, e.g. `"time [s]"`).
     pub fn new(label: impl Into<String>) -> Self {
         Axis {
             label: label.into(),

@@ -166,6 +166,7 @@ pub struct Simulation<'v> {
     time: f64,
     state: State,
     sample_period: f64,
+    sample_rate: f64,
     /// Index of the next sample to record (its time is index × period).
     next_sample: u64,
     /// Step-size hint for the next Dopri5 segment, s.
@@ -207,6 +208,7 @@ impl<'v> Simulation<'v> {
             time: 0.0,
             state: initial,
             sample_period: 1.0 / sample_rate_hz,
+            sample_rate: sample_rate_hz,
             next_sample: 0,
             step_hint: 0.0,
             initial_pose: (initial[X], initial[Y], initial[YAW]),
@@ -288,8 +290,10 @@ impl<'v> Simulation<'v> {
         result
     }
 
+    /// Time of sample `k`, s: k / rate (divided, not multiplied by the period,
+    /// so that e.g. sample 35 at 200 Hz is exactly 0.175).
     fn sample_time(&self, k: u64) -> f64 {
-        k as f64 * self.sample_period
+        k as f64 / self.sample_rate
     }
 
     fn record(&mut self, t: f64, x: State, inputs: &dyn InputSource) {
@@ -525,5 +529,115 @@ impl<'v> Simulation<'v> {
             metrics: Vec::new(),
             criteria: Vec::new(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{VX, YAW_RATE, straight_running};
+    use crate::params::load_vehicle;
+
+    fn crossover() -> Vehicle {
+        load_vehicle("scripts/vehicles/hybrid_crossover.toml".as_ref(), &[]).unwrap()
+    }
+
+    fn turning(v: &Vehicle) -> Commands {
+        let mut c = Commands::neutral(v);
+        c.steer_wheel_angle = 0.5;
+        c.drive_request = 0.2;
+        c
+    }
+
+    /// The three integrators solve the same equations: Dop853 and Rk4 agree
+    /// with Dopri5 to well within the tolerances used (a numerical cross-check).
+    #[test]
+    fn integrators_agree() {
+        let v = crossover();
+        let c = turning(&v);
+        let run = |kind| {
+            let settings = SolverSettings {
+                kind,
+                rtol: 1e-8,
+                atol: 1e-8,
+                fixed_step: 2e-4,
+            };
+            let mut sim = Simulation::new(&v, straight_running(&v, 20.0), settings, 100.0).unwrap();
+            sim.advance(3.0, &c).unwrap();
+            assert_eq!(sim.times().len(), 301, "{kind:?} samples");
+            *sim.state()
+        };
+        let a = run(SolverKind::Dopri5);
+        for kind in [SolverKind::Dop853, SolverKind::Rk4] {
+            let b = run(kind);
+            for i in [VX, YAW_RATE] {
+                assert!(
+                    (a[i] - b[i]).abs() < 1e-5 * a[i].abs().max(1.0),
+                    "{kind:?} {i}: {} vs {}",
+                    a[i],
+                    b[i]
+                );
+            }
+        }
+    }
+
+    /// Samples land on exact multiples of the sample period whatever the tick length.
+    #[test]
+    fn samples_at_exact_period_multiples() {
+        let v = crossover();
+        let c = turning(&v);
+        let mut sim = Simulation::new(
+            &v,
+            straight_running(&v, 20.0),
+            SolverSettings::default(),
+            200.0,
+        )
+        .unwrap();
+        let mut t = 0.0;
+        for _ in 0..37 {
+            t += 0.0137;
+            sim.advance(t, &c).unwrap();
+        }
+        for (k, time) in sim.times().iter().enumerate() {
+            assert_eq!(*time, k as f64 / 200.0);
+        }
+        assert_eq!(sim.times().len(), (t * 200.0).floor() as usize + 1);
+    }
+
+    /// A non-finite value stops the run with the time and the state named, and
+    /// keeps every sample computed before.
+    #[test]
+    fn non_finite_input_stops_with_time_and_state() {
+        let v = crossover();
+        let c = turning(&v);
+        let mut sim = Simulation::new(
+            &v,
+            straight_running(&v, 20.0),
+            SolverSettings::default(),
+            100.0,
+        )
+        .unwrap();
+        sim.advance(1.0, &c).unwrap();
+        let mut bad = c;
+        bad.steer_wheel_angle = f64::NAN;
+        let err = sim.advance(2.0, &bad).unwrap_err();
+        match &err {
+            SimError::NonFinite { time, state } => {
+                assert!((1.0..=2.0).contains(time), "{time}");
+                assert!(STATE_NAMES.iter().any(|(n, _)| n == state));
+            }
+            other => panic!("unexpected {other:?}"),
+        }
+        assert!(
+            sim.times().len() >= 101,
+            "samples up to the failure are kept"
+        );
+        assert!(
+            sim.samples()
+                .iter()
+                .all(|s| s.iter().all(|x| x.is_finite()))
+        );
+        let record = sim.into_record(Provenance::default());
+        assert!(matches!(record.status, RunStatus::Failed { .. }));
     }
 }

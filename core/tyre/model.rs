@@ -446,7 +446,12 @@ impl TyreModel {
         let (ax, ay) = (long.d + long.sv.abs(), lat.d + lat.sv.abs());
         if long.d > 0.0 && lat.d > 0.0 {
             let (ux, uy) = (fx / ax, fy / ay);
-            let r = (ux * ux + uy * uy).sqrt();
+            // Plain root in the normal range (cheap), hypot where squares could overflow.
+            let r = if ux.abs() < 1e150 && uy.abs() < 1e150 {
+                (ux * ux + uy * uy).sqrt()
+            } else {
+                ux.hypot(uy)
+            };
             if r > 1.0 {
                 fx /= r;
                 fy /= r;
