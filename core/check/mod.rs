@@ -665,4 +665,51 @@ mod tests {
         let c = compare(&r, &b, Tolerance::default());
         assert_eq!(c.missing_channels, vec!["yaw_rate".to_string()]);
     }
+
+    #[test]
+    fn metric_and_status_differences_fail() {
+        let b = record(vec![0.0, 0.1], vec![0.0, 0.5]);
+        let mut r = b.clone();
+        r.metrics[0].value = 1.001;
+        let c = compare(&r, &b, Tolerance::default());
+        let d = c.failures().next().unwrap();
+        assert_eq!((d.kind, d.name.as_str()), (ItemKind::Metric, "peak"));
+        assert!(
+            compare(
+                &r,
+                &b,
+                Tolerance {
+                    rtol: 1e-2,
+                    atol: 0.0
+                }
+            )
+            .passed()
+        );
+
+        let mut r = b.clone();
+        r.status = RunStatus::Failed {
+            message: "state `vx` became non-finite".into(),
+            time_s: 0.1,
+        };
+        let c = compare(&r, &b, Tolerance::default());
+        assert!(!c.status_matches() && !c.passed());
+    }
+
+    #[test]
+    fn update_replaces_baseline_and_refuses_non_results_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let (a, b) = (dir.path().join("a.h5"), dir.path().join("sub/b.h5"));
+        crate::results::write_hdf5(&record(vec![0.0], vec![1.0]), &a).unwrap();
+        update_baseline(&a, &b).unwrap();
+        assert_eq!(fs::read(&a).unwrap(), fs::read(&b).unwrap());
+        let junk = dir.path().join("junk.h5");
+        fs::write(&junk, "text").unwrap();
+        assert!(matches!(
+            update_baseline(&junk, &b),
+            Err(CheckError::Read { role: "result", .. })
+        ));
+        assert_eq!(fs::read(&a).unwrap(), fs::read(&b).unwrap());
+        // No temporary file left behind.
+        assert_eq!(fs::read_dir(dir.path().join("sub")).unwrap().count(), 1);
+    }
 }
