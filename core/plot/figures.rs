@@ -297,6 +297,78 @@ pub fn handling_data(record: &RunRecord, lat_accel_max: f64) -> Result<HandlingD
     })
 }
 
+/// One line of a sweep plot: a metric against the x parameter for one
+/// combination of the other varied parameters.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepLine {
+    /// Legend text, e.g. `drive.front_share = 0.3` (empty with one parameter).
+    pub label: String,
+    /// Values of the x parameter, ascending.
+    pub x: Vec<f64>,
+    /// Metric values at `x` (NaN where a case has none; the line breaks there).
+    pub y: Vec<f64>,
+}
+
+/// Splits the rows of a sweep summary into lines of metric `y` against the
+/// parameter `x_key`, one line per distinct combination of the other varied
+/// parameters (in order of first appearance; points sorted by x).
+/// `parameters` holds `(key, one value per row)` columns, `y` one value per
+/// row. `None` when `x_key` is not among the parameters or lengths differ.
+pub fn sweep_lines(
+    parameters: &[(String, Vec<f64>)],
+    x_key: &str,
+    y: &[f64],
+) -> Option<Vec<SweepLine>> {
+    let x_column = parameters.iter().position(|(k, _)| k == x_key)?;
+    if parameters.iter().any(|(_, v)| v.len() != y.len()) {
+        return None;
+    }
+    let mut lines: Vec<(Vec<u64>, SweepLine)> = Vec::new();
+    for row in 0..y.len() {
+        let others: Vec<(&str, f64)> = parameters
+            .iter()
+            .enumerate()
+            .filter(|(c, _)| *c != x_column)
+            .map(|(_, (k, v))| (k.as_str(), v[row]))
+            .collect();
+        let key: Vec<u64> = others.iter().map(|(_, v)| v.to_bits()).collect();
+        let index = match lines.iter().position(|(k, _)| *k == key) {
+            Some(i) => i,
+            None => {
+                let label = others
+                    .iter()
+                    .map(|(k, v)| format!("{k} = {v}"))
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                lines.push((
+                    key,
+                    SweepLine {
+                        label,
+                        x: Vec::new(),
+                        y: Vec::new(),
+                    },
+                ));
+                lines.len() - 1
+            }
+        };
+        let line = &mut lines[index].1;
+        line.x.push(parameters[x_column].1[row]);
+        line.y.push(y[row]);
+    }
+    Some(
+        lines
+            .into_iter()
+            .map(|(_, mut line)| {
+                let mut pairs: Vec<(f64, f64)> =
+                    line.x.iter().copied().zip(line.y.iter().copied()).collect();
+                pairs.sort_by(|a, b| a.0.total_cmp(&b.0));
+                (line.x, line.y) = pairs.into_iter().unzip();
+                line
+            })
+            .collect(),
+    )
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -400,6 +472,25 @@ mod tests {
         record.channels.retain(|c| c.name != "ay");
         let err = handling_data(&record, 4.0).unwrap_err();
         assert!(err.to_string().contains("`ay`"), "{err}");
+    }
+
+    #[test]
+    fn sweep_lines_group_by_other_parameter() {
+        let params = vec![
+            ("speed".to_string(), vec![20.0, 10.0, 20.0, 10.0]),
+            ("front_share".to_string(), vec![0.3, 0.3, 0.7, 0.7]),
+        ];
+        let y = [2.0, 1.0, 4.0, 3.0];
+        let lines = sweep_lines(&params, "speed", &y).unwrap();
+        assert_eq!(lines.len(), 2);
+        assert_eq!(lines[0].label, "front_share = 0.3");
+        assert_eq!(
+            (lines[0].x.clone(), lines[0].y.clone()),
+            (vec![10.0, 20.0], vec![1.0, 2.0])
+        );
+        assert_eq!(lines[1].y, vec![3.0, 4.0]);
+        assert!(sweep_lines(&params, "mass", &y).is_none());
+        assert!(sweep_lines(&params, "speed", &y[..3]).is_none());
     }
 
     #[test]
