@@ -89,6 +89,16 @@ fn identical_runs_pass() {
     let out = yawdyn(dir.path(), &["check", "a.h5", "--against", "b.h5"]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out));
     assert!(text(&out).contains("PASS"), "{}", text(&out));
+    // Same inputs give bit-identical outputs: every deviation is exactly 0.
+    let out = yawdyn(
+        dir.path(),
+        &["check", "a.h5", "--against", "b.h5", "--json"],
+    );
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).expect("json");
+    assert_eq!(json["alignment"]["kind"], "identical");
+    for d in json["deviations"].as_array().unwrap() {
+        assert_eq!(d["max_abs_deviation"], 0.0, "{d}");
+    }
 }
 
 #[test]
