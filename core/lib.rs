@@ -23,5 +23,6 @@ pub mod params;
 pub mod plot;
 pub mod results;
 pub mod sim;
+pub mod stability;
 pub mod table;
 pub mod tyre;

@@ -402,8 +402,8 @@ fn left_turn_signs_follow_iso_8855() {
     // The outer (right) wheels carry more load in a left turn.
     assert!(last(&sim, "fz_front_right") > last(&sim, "fz_front_left"));
     assert!(
-        last(&sim, "roll") < 0.0,
-        "body rolls right side down (ISO 8855 negative)"
+        last(&sim, "roll") > 0.0,
+        "body rolls outwards, right side down: positive roll about x (ISO 8855)"
     );
 }
 

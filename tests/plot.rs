@@ -223,3 +223,37 @@ fn non_yawdyn_file_is_bad_input() {
     let out = yawdyn(dir.path(), &["plot", "x.h5"]);
     assert_eq!(out.status.code(), Some(2), "{}", text(&out));
 }
+
+#[test]
+fn stability_map_as_heat_map() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = yawdyn(
+        dir.path(),
+        &[
+            "stability",
+            VEHICLE,
+            "--lat-accel-g",
+            "0.3",
+            "--vary",
+            "speed_kph=60:140:3",
+            "--vary",
+            "chassis.cg_to_front_axle=1.13:1.6:2",
+            "--out",
+            "map.h5",
+        ],
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out));
+    let out = yawdyn(dir.path(), &["plot", "map.h5"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out));
+    assert_labels(
+        &dir.path().join("map.svg"),
+        &[
+            "speed_kph [km/h]",
+            "chassis.cg_to_front_axle",
+            "yaw/sideslip damping ratio [1]",
+        ],
+    );
+    // A map cannot be drawn as time histories.
+    let out = yawdyn(dir.path(), &["plot", "map.h5", "--kind", "time"]);
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out));
+}

@@ -5,6 +5,7 @@
 mod bench;
 mod check;
 mod plot;
+mod stability;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -74,6 +75,8 @@ enum Command {
     Check(check::Args),
     /// Plot a results, sweep or stability-map file as SVG.
     Plot(plot::Args),
+    /// Trim in steady cornering, linearise and report eigenvalues, modes and stability (or a map with --vary).
+    Stability(stability::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -98,6 +101,7 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Bench(args) => bench::run(args),
         Command::Check(args) => check::run(args),
         Command::Plot(args) => plot::run(args),
+        Command::Stability(args) => stability::run(args),
     }
 }
 

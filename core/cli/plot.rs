@@ -5,8 +5,9 @@
 //!
 //! Results files: stacked time histories in engineering units (deg, deg/s,
 //! km/h, g), a cross-plot against `--x`, the handling diagram, or the
-//! friction-usage (g-g) plot. Sweep files and stability maps are recognised
-//! but cannot be drawn until their readers exist in the library.
+//! friction-usage (g-g) plot. Stability maps: heat map of the yaw/sideslip
+//! damping ratio with unstable points marked. Sweep files are recognised but
+//! cannot be drawn until their reader exists in the library.
 //!
 //! Exit 0 when the plot was written; 2 for bad input (unreadable file,
 //! unknown channel, kind that does not fit the file).
@@ -31,8 +32,7 @@ const LINEAR_RANGE_G: f64 = 0.4;
 
 /// Root `format` of sweep files.
 const SWEEP_FORMAT: &str = "yawdyn-sweep";
-/// Root `format` of stability maps.
-const MAP_FORMAT: &str = "yawdyn-stability-map";
+use yawdyn::stability::map::MAP_FORMAT;
 
 /// What to draw.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -93,7 +93,8 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .unwrap_or_else(|| args.file.with_extension("svg"));
     match format.as_str() {
         FORMAT_NAME => {}
-        SWEEP_FORMAT | MAP_FORMAT => {
+        MAP_FORMAT => return stability_map(&args, &out),
+        SWEEP_FORMAT => {
             return Err(anyhow::anyhow!(
                 "{}: {format} files cannot be plotted by this build yet (their reader is not \
                  in the library)",
@@ -132,6 +133,37 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         Kind::Gg => friction_usage(&record, &title, &out)?,
         Kind::Auto | Kind::Sweep | Kind::Map => unreachable!("resolved above"),
     }
+    println!("wrote {}", out.display());
+    Ok(Outcome::Success)
+}
+
+/// Quantity drawn on stability maps (the one `yawdyn stability --plot` draws).
+const MAP_METRIC: &str = "yaw_damping_ratio";
+
+/// A stability map as a heat map of the yaw/sideslip damping ratio with the
+/// unstable points marked, drawn by the same routine as `yawdyn stability --plot`.
+fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
+    if !matches!(args.kind, Kind::Auto | Kind::Map) {
+        return Err(bad_input(format!(
+            "{} is a stability map: use --kind map (or auto)",
+            args.file.display()
+        )));
+    }
+    if let Some(metric) = &args.metric
+        && metric != MAP_METRIC
+    {
+        return Err(bad_input(format!(
+            "stability maps are plotted as {MAP_METRIC}; --metric {metric} is not available"
+        )));
+    }
+    let map = yawdyn::stability::read_map(&args.file).map_err(|e| bad_input(e.to_string()))?;
+    if map.axes.is_empty() || map.points.is_empty() {
+        return Err(bad_input(format!(
+            "{}: the stability map has no points",
+            args.file.display()
+        )));
+    }
+    super::stability::plot_map(&map, out)?;
     println!("wrote {}", out.display());
     Ok(Outcome::Success)
 }

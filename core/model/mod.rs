@@ -210,7 +210,9 @@ fn differential_split(u: &DriveUnit, torque: f64, w_left: f64, w_right: f64) -> 
 /// Equations (body axes, ISO 8855):
 /// - m·(v̇x − r·vy) = ΣFx + F_drag, m·(v̇y + r·vx) = ΣFy, Iz·ṙ = Σ(xᵢ·Fyᵢ − yᵢ·Fxᵢ)
 ///   (Newton–Euler in a rotating frame; Milliken & Milliken ch. 5, Gillespie ch. 6);
-/// - Ixx·φ̈ = −m·ay·H − KΦ·φ − CΦ·φ̇ with H the CG height above the roll axis, and
+/// - Ixx·φ̈ = m·ay·H − KΦ·φ − CΦ·φ̇ with H the CG height above the roll axis (the
+///   inertial force −m·ay at height H rolls the body towards the outside of the turn:
+///   right side down, φ > 0, in a left turn), and
 ///   Iyy·θ̈ = −m·ax·h − Kθ·θ − Cθ·θ̇ (pitch centre at the ground), so that in steady
 ///   state the elastic transfers equal the quasi-static results m·ay·H·KΦᵢ/KΦ per
 ///   axle and m·ax·h/L (Milliken & Milliken, ch. 18). The CG shift due to body
@@ -247,7 +249,8 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
     let lateral_share = [v.b / l, v.a / l];
     let mut fz = [0.0; 4];
     for axle in [FRONT, REAR] {
-        let elastic = -(v.roll_stiffness[axle] * roll + v.roll_damping[axle] * roll_rate);
+        // A body rolled right side down (φ > 0, ISO 8855) loads the right wheels.
+        let elastic = v.roll_stiffness[axle] * roll + v.roll_damping[axle] * roll_rate;
         let geometric = m * ay_geo * lateral_share[axle] * v.roll_centre_height[axle];
         let transfer = (elastic + geometric) / v.track[axle];
         fz[2 * axle] = (0.5 * axle_load[axle] - transfer).max(0.0);
@@ -352,7 +355,7 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
     let roll_damping = v.roll_damping[FRONT] + v.roll_damping[REAR];
     d[ROLL] = roll_rate;
     d[ROLL_RATE] =
-        (-m * ay * arm - roll_stiffness * roll - roll_damping * roll_rate) / v.roll_inertia;
+        (m * ay * arm - roll_stiffness * roll - roll_damping * roll_rate) / v.roll_inertia;
     d[PITCH] = pitch_rate;
     d[PITCH_RATE] =
         (-m * ax * v.cg_height - v.pitch_stiffness * pitch - v.pitch_damping * pitch_rate)

@@ -1,0 +1,510 @@
+//! Steady-state stability analysis: trim, linearisation, eigenvalues, maps.
+//!
+//! Checks against the linear single-track model (Rajamani, *Vehicle Dynamics
+//! and Control*, 2nd ed., §2.3 state matrix; Gillespie, *Fundamentals of
+//! Vehicle Dynamics*, ch. 6 understeer gradient, steady-state steer and
+//! critical speed), plus numerical self-checks. Vehicles are the invented
+//! demo crossover with overrides (invented data).
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use nalgebra::Complex;
+use yawdyn::analysis::BicycleModel;
+use yawdyn::model::linear::bicycle_model;
+use yawdyn::model::{AY_GEOMETRIC, VX, VY, YAW_RATE, evaluate};
+use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle};
+use yawdyn::stability::{
+    LINEAR_STATES, StabilityError, StabilityReport, TrimSettings, TrimTarget, analyse,
+    default_relative_step, eigenvalues, find_trim, read_map, state_matrix,
+};
+
+const CROSSOVER: &str = "scripts/vehicles/hybrid_crossover.toml";
+
+/// What the 2-DOF model lacks, removed so that the comparison is fair: tyre
+/// relaxation (lengths cut to 0.02 m, a lag of under 1 ms at the speeds
+/// used), toe, camber (the bicycle model's stiffness is at zero camber),
+/// Ackermann geometry, aero forces and rolling resistance (so no drive torque
+/// is needed and the tyres run in pure lateral slip). Roll and pitch stay in:
+/// at small ay their effect on the axle stiffness is of second order.
+const FAIR: &[&str] = &[
+    "tyre.front.relaxation_length_lateral=0.02",
+    "tyre.rear.relaxation_length_lateral=0.02",
+    "tyre.front.relaxation_length_longitudinal=0.02",
+    "tyre.rear.relaxation_length_longitudinal=0.02",
+    "steering.toe_front_deg=0",
+    "steering.toe_rear_deg=0",
+    "tyre.front.camber_deg=0",
+    "tyre.rear.camber_deg=0",
+    "steering.ackermann=0",
+    "aero.drag_area=0",
+    "aero.downforce_area=0",
+    "tyre.front.rolling_resistance=0",
+    "tyre.rear.rolling_resistance=0",
+];
+
+/// Oversteering variant (invented): CG moved rearwards to 59 % rear weight
+/// and weaker rear tyres (pKy1 17 → 12).
+const OVERSTEER: &[&str] = &[
+    "chassis.cg_to_front_axle=1.6",
+    "tyre.rear.magic_formula.pKy1=12",
+];
+
+fn vehicle(sets: &[&[&str]]) -> Vehicle {
+    let overrides: Vec<Override> = sets
+        .iter()
+        .flat_map(|s| s.iter())
+        .map(|s| Override::parse(s).expect("valid override"))
+        .collect();
+    load_vehicle(Path::new(CROSSOVER), &overrides).expect("vehicle loads")
+}
+
+fn report(v: &Vehicle, speed: f64, ay: f64) -> StabilityReport {
+    analyse(
+        v,
+        &TrimTarget::cornering(v, speed, ay),
+        &TrimSettings::default(),
+    )
+    .expect("trim exists")
+}
+
+/// Largest relative error between the full model's yaw/sideslip eigenvalue
+/// pair and the closed-form pair, matched in sorted order.
+fn yaw_eigen_error(r: &StabilityReport, bike: &BicycleModel, speed: f64) -> f64 {
+    let yaw = r.yaw_mode.expect("yaw mode identified");
+    let sort = |mut v: Vec<Complex<f64>>| {
+        v.sort_by(|p, q| p.re.total_cmp(&q.re).then(p.im.total_cmp(&q.im)));
+        v
+    };
+    let full = sort(
+        yaw.eigenvalues
+            .iter()
+            .map(|l| Complex::new(l.re, l.im))
+            .collect(),
+    );
+    let closed = sort(bike.eigenvalues(speed).to_vec());
+    full.iter()
+        .zip(&closed)
+        .map(|(f, c)| (f - c).norm() / c.norm())
+        .fold(0.0, f64::max)
+}
+
+const LOW_AY: f64 = 0.05 * GRAVITY;
+
+/// Rajamani §2.3 / Gillespie ch. 6: understeering set, two speeds, within 3 %.
+#[test]
+fn yaw_eigenvalues_match_bicycle_model_understeer() {
+    let v = vehicle(&[FAIR]);
+    let bike = bicycle_model(&v);
+    assert!(bike.understeer_gradient() > 0.0, "set must understeer");
+    for speed in [15.0, 35.0] {
+        let r = report(&v, speed, LOW_AY);
+        let err = yaw_eigen_error(&r, &bike, speed);
+        eprintln!(
+            "understeer V={speed} m/s: yaw eigenvalue error vs closed form {:.3} %",
+            100.0 * err
+        );
+        assert!(err < 0.03, "error {err} at {speed} m/s");
+        assert!(r.stable);
+    }
+}
+
+/// Same for an oversteering set, below and above its critical speed.
+#[test]
+fn yaw_eigenvalues_match_bicycle_model_oversteer() {
+    let v = vehicle(&[FAIR, OVERSTEER]);
+    let bike = bicycle_model(&v);
+    assert!(bike.understeer_gradient() < 0.0, "set must oversteer");
+    for speed in [15.0, 35.0] {
+        let r = report(&v, speed, LOW_AY);
+        let err = yaw_eigen_error(&r, &bike, speed);
+        eprintln!(
+            "oversteer V={speed} m/s: yaw eigenvalue error vs closed form {:.3} %",
+            100.0 * err
+        );
+        assert!(err < 0.03, "error {err} at {speed} m/s");
+    }
+}
+
+/// Gillespie ch. 6: V_crit = sqrt(−57.3·L·g/K) (SI: sqrt(−L/K)). The full
+/// model is stable 10 % below it and flagged unstable 10 % above it, and the
+/// speed where its largest real part crosses zero (bisection) is within 3 %.
+#[test]
+fn oversteer_car_is_unstable_above_critical_speed() {
+    let v = vehicle(&[FAIR, OVERSTEER]);
+    let bike = bicycle_model(&v);
+    let k_deg_per_g = bike.understeer_gradient_deg_per_g();
+    let v_crit = (-57.3 * bike.wheelbase() * GRAVITY / k_deg_per_g).sqrt();
+    assert!((v_crit - bike.critical_speed().unwrap()).abs() / v_crit < 1e-3);
+    assert!(
+        report(&v, 0.9 * v_crit, LOW_AY).stable,
+        "stable below V_crit"
+    );
+    let above = report(&v, 1.1 * v_crit, LOW_AY);
+    assert!(!above.stable, "unstable above V_crit");
+    assert!(above.max_real_part > 0.0);
+    let (mut lo, mut hi) = (0.8 * v_crit, 1.2 * v_crit);
+    for _ in 0..20 {
+        let mid = 0.5 * (lo + hi);
+        if report(&v, mid, LOW_AY).max_real_part > 0.0 {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    let full_crit = 0.5 * (lo + hi);
+    eprintln!(
+        "critical speed: Gillespie {:.3} km/h, full model {:.3} km/h ({:+.2} %)",
+        3.6 * v_crit,
+        3.6 * full_crit,
+        100.0 * (full_crit / v_crit - 1.0)
+    );
+    assert!((full_crit / v_crit - 1.0).abs() < 0.03);
+}
+
+/// Near the critical speed of the oversteering set (1.01·V_crit, Gillespie
+/// ch. 6) the reported yaw/sideslip mode is divergent: negative damping ratio
+/// or a saddle (NaN), and the car is flagged unstable; just below (0.99·V_crit)
+/// it is stable with a positive damping ratio.
+#[test]
+fn yaw_mode_reported_divergent_just_above_critical_speed() {
+    let v = vehicle(&[FAIR, OVERSTEER]);
+    let v_crit = bicycle_model(&v).critical_speed().unwrap();
+    let above = report(&v, 1.01 * v_crit, LOW_AY);
+    let zeta = above.yaw_mode.expect("yaw mode").damping_ratio;
+    assert!(!above.stable);
+    assert!(zeta.is_nan() || zeta < 0.0, "damping ratio {zeta}");
+    let below = report(&v, 0.95 * v_crit, LOW_AY);
+    assert!(below.stable);
+    assert!(below.yaw_mode.expect("yaw mode").damping_ratio > 0.0);
+}
+
+/// Gillespie ch. 6: local understeer gradient K and steady-state steer
+/// δ = L/R + K·ay of the full model at low ay agree with the bicycle model
+/// within 3 % (both sets).
+#[test]
+fn understeer_gradient_and_steer_match_bicycle_model() {
+    for sets in [&[FAIR][..], &[FAIR, OVERSTEER][..]] {
+        let v = vehicle(sets);
+        let bike = bicycle_model(&v);
+        let speed = 20.0;
+        let r = report(&v, speed, LOW_AY);
+        let k = r.understeer_gradient.expect("gradient");
+        let k_ref = bike.understeer_gradient();
+        eprintln!(
+            "understeer gradient: full {:.4} deg/g, bicycle {:.4} deg/g",
+            r.understeer_gradient_deg_per_g().unwrap(),
+            bike.understeer_gradient_deg_per_g()
+        );
+        assert!((k / k_ref - 1.0).abs() < 0.03, "K {k} vs {k_ref}");
+        let radius = speed * speed / LOW_AY;
+        let delta_ref = bike.steady_state_steer(speed, radius);
+        let delta = r.trim.road_wheel_angle(&v);
+        assert!(
+            (delta / delta_ref - 1.0).abs() < 0.03,
+            "steer {delta} vs {delta_ref}"
+        );
+    }
+}
+
+/// The trim is an equilibrium of the full model: all non-cyclic derivatives
+/// vanish, ay is the target and r = ay/V (steady circular motion).
+#[test]
+fn trim_is_a_steady_state() {
+    let v = vehicle(&[]);
+    let speed = 25.0;
+    let ay = 5.0;
+    let r = report(&v, speed, ay);
+    let e = evaluate(&v, &r.trim.state, &r.trim.commands);
+    for &i in &LINEAR_STATES {
+        assert!(
+            e.derivative[i].abs() < 1e-6,
+            "derivative of state {i} = {}",
+            e.derivative[i]
+        );
+    }
+    assert!((e.ay - ay).abs() < 1e-7);
+    assert!((r.trim.state[YAW_RATE] - ay / speed).abs() < 1e-8);
+    assert_eq!(r.trim.state[VX], speed);
+    assert!((r.trim.state[AY_GEOMETRIC] - ay).abs() < 1e-6);
+    assert!(r.trim.state[VY].is_finite());
+}
+
+/// Numerical Jacobian: central differences at the default step and at 1/10
+/// and 10 times it agree entry by entry within 1e-6 of the largest entry of
+/// the row (truncation O(h²) and rounding O(ε/h) are both far below that);
+/// the eigenvalues within 1e-6 relative.
+#[test]
+fn jacobian_is_step_size_independent() {
+    let v = vehicle(&[]);
+    let r = report(&v, 30.0, 4.0);
+    let h = default_relative_step();
+    let base = state_matrix(&v, &r.trim.state, &r.trim.commands, h);
+    let mut worst: f64 = 0.0;
+    for factor in [0.1, 10.0] {
+        let other = state_matrix(&v, &r.trim.state, &r.trim.commands, h * factor);
+        for i in 0..base.nrows() {
+            let scale = base
+                .row(i)
+                .iter()
+                .fold(0.0_f64, |m, x| m.max(x.abs()))
+                .max(1e-12);
+            for j in 0..base.ncols() {
+                let d = (base[(i, j)] - other[(i, j)]).abs() / scale;
+                worst = worst.max(d);
+                assert!(
+                    d < 1e-6,
+                    "A[{i},{j}] {} vs {} (step x{factor})",
+                    base[(i, j)],
+                    other[(i, j)]
+                );
+            }
+        }
+        let (e1, e2) = (eigenvalues(&base), eigenvalues(&other));
+        for (a, b) in e1.iter().zip(&e2) {
+            assert!((a - b).norm() <= 1e-6 * a.norm().max(1.0), "{a} vs {b}");
+        }
+    }
+    eprintln!("jacobian: largest row-relative difference between step sizes {worst:.2e}");
+}
+
+/// 3 g is far beyond the grip of a road car (μ ≈ 1, common practice): no
+/// trim, and the largest reachable ay is between 0.6 g and 3 g; a trim just
+/// above it does not exist either.
+#[test]
+fn no_trim_beyond_grip_limit() {
+    let v = vehicle(&[]);
+    let target = TrimTarget::cornering(&v, 100.0 / 3.6, 3.0 * GRAVITY);
+    let err = find_trim(&v, &target, &TrimSettings::default()).unwrap_err();
+    let StabilityError::NoTrim {
+        largest_lat_accel: Some(largest),
+        ..
+    } = err
+    else {
+        panic!("expected NoTrim with a largest ay, got {err:?}");
+    };
+    eprintln!(
+        "largest reachable ay at 100 km/h: {:.4} g",
+        largest / GRAVITY
+    );
+    assert!(largest > 0.6 * GRAVITY && largest < 3.0 * GRAVITY);
+    let beyond = TrimTarget::cornering(&v, 100.0 / 3.6, largest + 0.05 * GRAVITY);
+    assert!(find_trim(&v, &beyond, &TrimSettings::default()).is_err());
+    let within = TrimTarget::cornering(&v, 100.0 / 3.6, largest - 0.02 * GRAVITY);
+    assert!(find_trim(&v, &within, &TrimSettings::default()).is_ok());
+}
+
+/// Deterministic: two analyses give bit-identical eigenvalues.
+#[test]
+fn analysis_is_bit_identical_twice() {
+    let v = vehicle(&[]);
+    let a = report(&v, 27.0, -4.0);
+    let b = report(&v, 27.0, -4.0);
+    for (x, y) in a.eigenvalues.iter().zip(&b.eigenvalues) {
+        assert_eq!(x.re.to_bits(), y.re.to_bits());
+        assert_eq!(x.im.to_bits(), y.im.to_bits());
+    }
+}
+
+/// Left and right turns are mirror images: same eigenvalues, opposite steer
+/// (the demo vehicle is left/right symmetric).
+#[test]
+fn left_and_right_turns_mirror() {
+    let v = vehicle(&[]);
+    let left = report(&v, 27.0, 4.0);
+    let right = report(&v, 27.0, -4.0);
+    assert!((left.trim.steer_wheel_angle() + right.trim.steer_wheel_angle()).abs() < 1e-8);
+    for (x, y) in left.eigenvalues.iter().zip(&right.eigenvalues) {
+        assert!((x.re - y.re).abs() < 1e-6 * (1.0 + x.re.abs()));
+    }
+}
+
+fn yawdyn(args: &[&str], dir: &Path) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_yawdyn"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect("binary runs");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn crossover_path() -> String {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join(CROSSOVER)
+        .display()
+        .to_string()
+}
+
+/// `--json` has `stable`, `eigenvalues` [{re, im}], `modes` [{name,
+/// frequency_hz, damping_ratio}] and the trim quantities; exit 0.
+#[test]
+fn json_output_has_documented_keys() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = crossover_path();
+    let (code, out, err) = yawdyn(
+        &[
+            "stability",
+            &file,
+            "--speed-kph",
+            "100",
+            "--lat-accel-g",
+            "0.4",
+            "--json",
+        ],
+        dir.path(),
+    );
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).expect("valid JSON");
+    assert!(j["stable"].is_boolean());
+    let ev = j["eigenvalues"].as_array().unwrap();
+    assert_eq!(ev.len(), 20);
+    assert!(ev.iter().all(|e| e["re"].is_f64() && e["im"].is_f64()));
+    let modes = j["modes"].as_array().unwrap();
+    assert!(!modes.is_empty());
+    for m in modes {
+        assert!(m["name"].is_string());
+        assert!(m.get("frequency_hz").is_some() && m.get("damping_ratio").is_some());
+    }
+    assert!(
+        modes
+            .iter()
+            .any(|m| m["name"] == "yaw/sideslip" && m["damping_ratio"].is_f64())
+    );
+    for key in [
+        "steer_wheel_angle_deg",
+        "road_wheel_angle_deg",
+        "sideslip_deg",
+        "understeer_gradient_deg_per_g",
+        "yaw_rate_deg_per_s",
+    ] {
+        assert!(j["trim"][key].is_f64(), "trim.{key}");
+    }
+    // ISO 8855 / steady state: yaw rate = ay/V.
+    let r = j["trim"]["yaw_rate_deg_per_s"]
+        .as_f64()
+        .unwrap()
+        .to_radians();
+    assert!((r - 0.4 * GRAVITY / (100.0 / 3.6)).abs() < 1e-6);
+}
+
+/// Exit codes: 1 when no trim exists, 2 for bad input.
+#[test]
+fn exit_codes_for_no_trim_and_bad_input() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = crossover_path();
+    let (code, out, _) = yawdyn(
+        &[
+            "stability",
+            &file,
+            "--speed-kph",
+            "100",
+            "--lat-accel-g",
+            "3",
+        ],
+        dir.path(),
+    );
+    assert_eq!(code, 1);
+    assert!(out.contains("NO TRIM"), "{out}");
+    let (code, _, _) = yawdyn(
+        &[
+            "stability",
+            &file,
+            "--speed-kph",
+            "100",
+            "--lat-accel-g",
+            "0.3",
+            "--front-share",
+            "1.5",
+        ],
+        dir.path(),
+    );
+    assert_eq!(code, 2);
+    let (code, _, _) = yawdyn(&["stability", &file, "--speed-kph", "100"], dir.path());
+    assert_eq!(code, 2);
+    let (code, _, _) = yawdyn(
+        &[
+            "stability",
+            &file,
+            "--lat-accel-g",
+            "0.3",
+            "--vary",
+            "speed_kph=10:5:3",
+        ],
+        dir.path(),
+    );
+    assert_eq!(code, 2);
+}
+
+/// A 3 × 2 map through the binary: HDF5 file readable with `read_map`, grid
+/// and flags consistent with single-point runs, SVG drawn, rerun identical.
+#[test]
+fn stability_map_file_round_trip() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = crossover_path();
+    let args = [
+        "stability",
+        &file,
+        "--lat-accel-g",
+        "0.3",
+        "--vary",
+        "speed_kph=60:140:3",
+        "--vary",
+        "chassis.cg_to_front_axle=1.13:1.6:2",
+        "--set",
+        "tyre.rear.magic_formula.pKy1=12",
+        "--out",
+        "map.h5",
+        "--plot",
+        "map.svg",
+    ];
+    let (code, _, err) = yawdyn(&args, dir.path());
+    assert_eq!(code, 0, "{err}");
+    let map = read_map(&dir.path().join("map.h5")).expect("map reads");
+    assert_eq!(map.axes.len(), 2);
+    assert_eq!(map.axes[0].values, vec![60.0, 100.0, 140.0]);
+    assert_eq!(map.points.len(), 6);
+    let svg = std::fs::read_to_string(dir.path().join("map.svg")).unwrap();
+    assert!(svg.contains("<svg"));
+    // Point (140 km/h, CG 1.6 m) against a direct analysis.
+    let v = vehicle(&[&[
+        "chassis.cg_to_front_axle=1.6",
+        "tyre.rear.magic_formula.pKy1=12",
+    ]]);
+    let direct = report(&v, 140.0 / 3.6, 0.3 * GRAVITY);
+    let p = map.points[5];
+    assert_eq!(p.stable, direct.stable);
+    assert_eq!(p.max_real_part.to_bits(), direct.max_real_part.to_bits());
+    let first = std::fs::read(dir.path().join("map.h5")).unwrap().len();
+    let (code, _, _) = yawdyn(&args, dir.path());
+    assert_eq!(code, 0);
+    let again = read_map(&dir.path().join("map.h5")).unwrap();
+    assert_eq!(
+        std::fs::read(dir.path().join("map.h5")).unwrap().len(),
+        first
+    );
+    for (a, b) in map.points.iter().zip(&again.points) {
+        assert_eq!(a.yaw_damping_ratio.to_bits(), b.yaw_damping_ratio.to_bits());
+    }
+}
+
+/// ISO 8855 (roll positive = right side down): in a steady left turn the
+/// body rolls towards the outside, right side down, and the right (outer)
+/// wheels carry more load (Milliken & Milliken ch. 18 load transfer).
+#[test]
+fn roll_is_positive_right_side_down_in_left_turn() {
+    let v = vehicle(&[]);
+    let r = report(&v, 25.0, 4.0);
+    assert!(r.trim.state[yawdyn::model::ROLL] > 0.0);
+    let e = evaluate(&v, &r.trim.state, &r.trim.commands);
+    assert!(e.wheels[1].fz > e.wheels[0].fz && e.wheels[3].fz > e.wheels[2].fz);
+    // Steady roll angle φ = m·ay·H/(KΦf + KΦr) (Milliken & Milliken ch. 18).
+    let l = v.wheelbase;
+    let h_axis =
+        v.roll_centre_height[0] + (v.roll_centre_height[1] - v.roll_centre_height[0]) * v.a / l;
+    let phi = v.mass * 4.0 * (v.cg_height - h_axis) / (v.roll_stiffness[0] + v.roll_stiffness[1]);
+    assert!((r.trim.state[yawdyn::model::ROLL] / phi - 1.0).abs() < 1e-6);
+}
