@@ -6,6 +6,8 @@ mod bench;
 mod check;
 mod plot;
 mod stability;
+mod run;
+mod show;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -77,6 +79,12 @@ enum Command {
     Plot(plot::Args),
     /// Trim in steady cornering, linearise and report eigenvalues, modes and stability (or a map with --vary).
     Stability(stability::Args),
+    /// Run a manoeuvre script and write the results file (HDF5).
+    ///
+    /// Exit codes: 0 success; 1 the run or a criterion failed; 2 bad input.
+    Run(run::Args),
+    /// Print the summary of a results file.
+    Show(show::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -102,6 +110,8 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Check(args) => check::run(args),
         Command::Plot(args) => plot::run(args),
         Command::Stability(args) => stability::run(args),
+        Command::Run(args) => run::run(args),
+        Command::Show(args) => show::run(args),
     }
 }
 

@@ -1,0 +1,168 @@
+//! `yawdyn run SCRIPT [--vehicle FILE] [--set key=value]... [--out FILE.h5]
+//! [--csv FILE] [--quiet]`: run a manoeuvre script, print a summary and write
+//! the results file.
+
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+use anyhow::Context;
+use yawdyn::manoeuvre::script::{RunOptions, ScriptError, run_script};
+use yawdyn::results::{self, RunRecord, RunStatus};
+use yawdyn::table::{Table, fmt_num};
+
+use super::{Outcome, bad_input, parse_overrides};
+
+/// Arguments of `yawdyn run`.
+#[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Exit codes: 0 the run completed and every criterion passed; \
+1 the run failed (e.g. the integration diverged) or a criterion failed; \
+2 bad input (options, vehicle file, script error). The results file is written \
+whenever the run produced data, also when it failed."
+)]
+pub struct Args {
+    /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai.
+    script: PathBuf,
+    /// Vehicle parameter file (TOML) to use instead of the script's own.
+    #[arg(long, value_name = "FILE")]
+    vehicle: Option<PathBuf>,
+    /// Override a vehicle parameter by dotted path, e.g. `--set drive.front_share=0.3`
+    /// (repeatable; applied after the script's own `set` calls).
+    #[arg(long = "set", value_name = "KEY=VALUE")]
+    sets: Vec<String>,
+    /// Results file (HDF5). Default: results/<script name>.h5 in the current directory.
+    #[arg(long, value_name = "FILE.h5")]
+    out: Option<PathBuf>,
+    /// Also write the channels as CSV (header row of names, then a row of units).
+    #[arg(long, value_name = "FILE")]
+    csv: Option<PathBuf>,
+    /// No progress bar and no summary (errors are still printed).
+    #[arg(long)]
+    quiet: bool,
+}
+
+/// Runs `yawdyn run`.
+pub fn run(args: Args) -> anyhow::Result<Outcome> {
+    let overrides = parse_overrides(&args.sets)?;
+    let out = args
+        .out
+        .clone()
+        .unwrap_or_else(|| default_out(&args.script));
+    let bar = progress_bar(args.quiet);
+    let options = RunOptions {
+        vehicle: args.vehicle.clone(),
+        overrides,
+        progress: bar.clone().map(|bar| {
+            Box::new(move |t: f64, end: f64| {
+                let end_ms = if end.is_finite() {
+                    (end * 1000.0) as u64
+                } else {
+                    0
+                };
+                if end_ms > bar.length().unwrap_or(0) {
+                    bar.set_length(end_ms);
+                }
+                bar.set_position((t * 1000.0) as u64);
+            }) as Box<dyn Fn(f64, f64)>
+        }),
+    };
+    let started = Instant::now();
+    let result = run_script(&args.script, &options);
+    let wall = started.elapsed().as_secs_f64();
+    if let Some(bar) = &bar {
+        bar.finish_and_clear();
+    }
+    let record = match result {
+        Ok(record) => record,
+        Err(e @ ScriptError::Vehicle { .. }) => return Err(anyhow::Error::new(e)),
+        Err(e) => return Err(bad_input(e.to_string())),
+    };
+    if let Some(dir) = out.parent().filter(|d| !d.as_os_str().is_empty()) {
+        std::fs::create_dir_all(dir)
+            .with_context(|| format!("cannot create directory {}", dir.display()))?;
+    }
+    results::write_hdf5(&record, &out)
+        .with_context(|| format!("cannot write results file {}", out.display()))?;
+    if let Some(csv) = &args.csv {
+        results::write_csv(&record, csv)
+            .with_context(|| format!("cannot write CSV file {}", csv.display()))?;
+    }
+    if !args.quiet {
+        print!("{}", summary(&record, wall, &out));
+    }
+    Ok(if record.passed() {
+        Outcome::Success
+    } else {
+        Outcome::Failed
+    })
+}
+
+/// `results/<script stem>.h5`.
+fn default_out(script: &Path) -> PathBuf {
+    let stem = script
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".into());
+    Path::new("results").join(format!("{stem}.h5"))
+}
+
+/// A progress bar on stderr, or none when quiet or stderr is not a terminal.
+fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
+    if quiet || !std::io::stderr().is_terminal() {
+        return None;
+    }
+    let bar = indicatif::ProgressBar::new(0);
+    let style = indicatif::ProgressStyle::with_template(
+        "{bar:40} {msg} sim {pos} ms / {len} ms, {elapsed} wall",
+    )
+    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar());
+    bar.set_style(style);
+    Some(bar)
+}
+
+/// The printed summary: status, durations, metrics and criteria.
+fn summary(record: &RunRecord, wall: f64, out: &Path) -> String {
+    let n = |v: f64| fmt_num(v, 4);
+    let sim = record.duration_s();
+    let mut t = Table::new(["item", "value"]);
+    let status = match &record.status {
+        RunStatus::Completed => "completed".to_string(),
+        RunStatus::Failed { message, time_s } => {
+            format!("FAILED at t = {} s: {message}", n(*time_s))
+        }
+    };
+    t.row(["status", &status]);
+    t.row(["simulated", &format!("{} s", n(sim))]);
+    t.row(["wall time", &format!("{} s", n(wall))]);
+    t.row([
+        "real-time factor",
+        &n(if wall > 0.0 { sim / wall } else { f64::NAN }),
+    ]);
+    t.row(["results file", &out.display().to_string()]);
+    let mut text = t.render();
+    if !record.metrics.is_empty() {
+        let mut m = Table::new(["metric", "value", "unit"]);
+        for metric in &record.metrics {
+            m.row([metric.name.as_str(), &n(metric.value), metric.unit.as_str()]);
+        }
+        text.push('\n');
+        text.push_str(&m.render());
+    }
+    if !record.criteria.is_empty() {
+        let limit = |v: Option<f64>| v.map_or_else(|| "-".to_string(), n);
+        let mut c = Table::new(["criterion", "value", "lower", "upper", "result"]);
+        for crit in &record.criteria {
+            c.row([
+                crit.name.as_str(),
+                &n(crit.value),
+                &limit(crit.lower),
+                &limit(crit.upper),
+                if crit.passed { "PASS" } else { "FAIL" },
+            ]);
+        }
+        text.push('\n');
+        text.push_str(&c.render());
+    }
+    text
+}
