@@ -207,3 +207,29 @@ fn non_results_file_is_bad_input() {
     );
     assert_eq!(out.status.code(), Some(2), "{}", text(&out));
 }
+
+#[test]
+fn shipped_step_steer_script_reruns_match_and_heavier_car_does_not() {
+    let dir = tempfile::tempdir().unwrap();
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/scripts/step_steer.rhai");
+    for (name, sets) in [
+        ("a.h5", vec![]),
+        ("b.h5", vec![]),
+        ("heavy.h5", vec!["--set", "chassis.mass=1856.4"]),
+    ] {
+        let mut args = vec!["run", script, "--out", name];
+        args.extend(sets);
+        let out = yawdyn(dir.path(), &args);
+        assert!(
+            matches!(out.status.code(), Some(0 | 1)),
+            "run {name}: {}",
+            text(&out)
+        );
+    }
+    let out = yawdyn(dir.path(), &["check", "b.h5", "--against", "a.h5"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out));
+    let out = yawdyn(dir.path(), &["check", "heavy.h5", "--against", "a.h5"]);
+    let report = text(&out);
+    assert_eq!(out.status.code(), Some(1), "{report}");
+    assert!(report.contains("yaw_rate"), "{report}");
+}

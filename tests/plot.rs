@@ -257,3 +257,42 @@ fn stability_map_as_heat_map() {
     let out = yawdyn(dir.path(), &["plot", "map.h5", "--kind", "time"]);
     assert_eq!(out.status.code(), Some(2), "{}", text(&out));
 }
+
+#[test]
+fn shipped_circle_script_gives_handling_diagram_matching_its_own_fit() {
+    let dir = tempfile::tempdir().unwrap();
+    let script = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scripts/steady_state_circle.rhai"
+    );
+    let out = yawdyn(dir.path(), &["run", script, "--out", "circle.h5"]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out));
+    let out = yawdyn(dir.path(), &["plot", "circle.h5"]);
+    let report = text(&out);
+    assert_eq!(out.status.code(), Some(0), "{report}");
+    // Auto kind from the script path; radius from the remembered value.
+    assert_labels(
+        &dir.path().join("circle.svg"),
+        &["lateral acceleration [g]", "constant radius 100 m"],
+    );
+    let fitted: f64 = report
+        .split("understeer gradient ")
+        .nth(1)
+        .and_then(|s| s.split_whitespace().next())
+        .and_then(|s| s.parse().ok())
+        .unwrap_or_else(|| panic!("no gradient printed: {report}"));
+    // Same ISO 4138 constant-radius fit as the script's evaluate(), over a
+    // slightly different range (all samples with |ay| ≤ 0.4 g here, the speed
+    // sweep phase up to 4 m/s² there): agree within 5 %.
+    let record = yawdyn::results::read_hdf5(&dir.path().join("circle.h5")).unwrap();
+    let own = record
+        .metrics
+        .iter()
+        .find(|m| m.name == "understeer_gradient")
+        .expect("script metric")
+        .value;
+    assert!(
+        (fitted - own).abs() <= 0.05 * own.abs(),
+        "plot {fitted} deg/g, script {own} deg/g"
+    );
+}

@@ -138,7 +138,9 @@ pub fn stored_vehicle(record: &RunRecord) -> Result<Vehicle, FigureError> {
 }
 
 /// Names under which a circle radius (m) is looked up, first in the metrics,
-/// then in the provenance extras.
+/// then in the provenance extras, as given and with the prefix `value.` that
+/// the script runner gives remembered values (`remember("radius", r)` and
+/// `follow_circle` store `value.radius`, `value.circle_radius`).
 pub const RADIUS_KEYS: [&str; 3] = ["radius", "circle_radius", "radius_m"];
 
 /// How the understeer gradient of a [`HandlingData`] was obtained.
@@ -202,7 +204,12 @@ fn stored_radius(record: &RunRecord) -> Option<f64> {
         }
     }
     for key in RADIUS_KEYS {
-        if let Some((_, v)) = record.provenance.extra.iter().find(|(k, _)| k == key)
+        let prefixed = format!("value.{key}");
+        if let Some((_, v)) = record
+            .provenance
+            .extra
+            .iter()
+            .find(|(k, _)| k == key || *k == prefixed)
             && let Ok(r) = v.trim().parse::<f64>()
             && ok(r)
         {
