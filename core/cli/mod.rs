@@ -5,9 +5,9 @@
 mod bench;
 mod check;
 mod plot;
-mod stability;
 mod run;
 mod show;
+mod stability;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
