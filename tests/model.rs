@@ -44,7 +44,7 @@ fn last(sim: &Simulation, name: &str) -> f64 {
 
 /// Runs at constant steering-wheel angle with a PI speed hold on the axle
 /// torques (split by the vehicle's front share) for `duration` seconds.
-fn hold_speed_run(v: &Vehicle, speed: f64, steer_wheel: f64, duration: f64) -> Simulation<'_> {
+fn hold_speed_run(v: &Vehicle, speed: f64, steer_wheel: f64, duration: f64) -> Simulation {
     let mut sim = Simulation::new(
         v,
         straight_running(v, speed),

@@ -17,6 +17,7 @@ mod channels;
 pub use channels::{ChannelInfo, N_CHANNELS, Sample, channel_list, sample};
 
 use std::cell::Cell;
+use std::sync::Arc;
 
 use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::dop_shared::{OutputType, System};
@@ -26,6 +27,13 @@ use serde::{Deserialize, Serialize};
 use crate::model::{Commands, STATE_NAMES, State, X, Y, YAW, evaluate};
 use crate::params::Vehicle;
 use crate::results::{Channel, Provenance, RunRecord, RunStatus};
+
+/// Most adaptive steps the solver may take within one `advance` call (one
+/// controller tick or open-loop segment). A run that needs more is stiff beyond
+/// what an explicit method should be asked to do (e.g. an absurd parameter), and
+/// stops with a solver failure naming the fastest-changing state instead of
+/// running for minutes.
+pub const MAX_STEPS_PER_SEGMENT: u32 = 100_000;
 
 /// Integration method.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
@@ -159,9 +167,27 @@ impl<I: InputSource + ?Sized> System<f64, State> for Plant<'_, I> {
     }
 }
 
+/// A vehicle handed to a [`Simulation`]: a reference (copied once) or a shared `Arc`.
+pub trait SharedVehicle {
+    /// The vehicle as a shared pointer.
+    fn into_shared(self) -> Arc<Vehicle>;
+}
+
+impl SharedVehicle for &Vehicle {
+    fn into_shared(self) -> Arc<Vehicle> {
+        Arc::new(self.clone())
+    }
+}
+
+impl SharedVehicle for Arc<Vehicle> {
+    fn into_shared(self) -> Arc<Vehicle> {
+        self
+    }
+}
+
 /// A running simulation: vehicle, state, time and the samples recorded so far.
-pub struct Simulation<'v> {
-    vehicle: &'v Vehicle,
+pub struct Simulation {
+    vehicle: Arc<Vehicle>,
     settings: SolverSettings,
     time: f64,
     state: State,
@@ -178,10 +204,10 @@ pub struct Simulation<'v> {
     failure: Option<SimError>,
 }
 
-impl<'v> Simulation<'v> {
+impl Simulation {
     /// Starts at t = 0 in `initial` state, sampling at `sample_rate_hz`.
     pub fn new(
-        vehicle: &'v Vehicle,
+        vehicle: impl SharedVehicle,
         initial: State,
         settings: SolverSettings,
         sample_rate_hz: f64,
@@ -203,7 +229,7 @@ impl<'v> Simulation<'v> {
             )));
         }
         Ok(Self {
-            vehicle,
+            vehicle: vehicle.into_shared(),
             settings,
             time: 0.0,
             state: initial,
@@ -220,8 +246,8 @@ impl<'v> Simulation<'v> {
     }
 
     /// The vehicle being simulated.
-    pub fn vehicle(&self) -> &'v Vehicle {
-        self.vehicle
+    pub fn vehicle(&self) -> &Vehicle {
+        &self.vehicle
     }
 
     /// Current simulation time, s.
@@ -298,7 +324,7 @@ impl<'v> Simulation<'v> {
 
     fn record(&mut self, t: f64, x: State, inputs: &dyn InputSource) {
         let c = inputs.commands(t);
-        let e = evaluate(self.vehicle, &x, &c);
+        let e = evaluate(&self.vehicle, &x, &c);
         self.times.push(t);
         self.samples.push(sample(&x, &c, &e, self.initial_pose));
     }
@@ -315,7 +341,7 @@ impl<'v> Simulation<'v> {
 
     fn solver_error(&self, message: String, time: f64, inputs: &dyn InputSource) -> SimError {
         let c = inputs.commands(time);
-        let d = evaluate(self.vehicle, &self.state, &c).derivative;
+        let d = evaluate(&self.vehicle, &self.state, &c).derivative;
         let scale =
             |i: usize| d[i].abs() / (self.settings.atol + self.settings.rtol * self.state[i].abs());
         let worst = (0..crate::model::N_STATES)
@@ -332,7 +358,7 @@ impl<'v> Simulation<'v> {
     fn advance_dense(&mut self, t_end: f64, inputs: &dyn InputSource) -> Result<(), SimError> {
         let flag = Cell::new(None);
         let plant = Plant {
-            vehicle: self.vehicle,
+            vehicle: &self.vehicle,
             inputs,
             bad: &flag,
         };
@@ -356,7 +382,7 @@ impl<'v> Simulation<'v> {
             10.0,
             span,
             h0,
-            1_000_000,
+            MAX_STEPS_PER_SEGMENT,
             u32::MAX,
             OutputType::Continuous,
         );
@@ -422,7 +448,7 @@ impl<'v> Simulation<'v> {
             };
             let flag = Cell::new(None);
             let plant = Plant {
-                vehicle: self.vehicle,
+                vehicle: &self.vehicle,
                 inputs,
                 bad: &flag,
             };
@@ -453,7 +479,7 @@ impl<'v> Simulation<'v> {
                         } else {
                             0.0
                         },
-                        1_000_000,
+                        MAX_STEPS_PER_SEGMENT,
                         u32::MAX,
                         OutputType::Sparse,
                     );
@@ -493,7 +519,7 @@ impl<'v> Simulation<'v> {
 
     /// The model evaluated at the current state with `commands`.
     pub fn evaluate_now(&self, commands: &Commands) -> crate::model::Evaluation {
-        evaluate(self.vehicle, &self.state, commands)
+        evaluate(&self.vehicle, &self.state, commands)
     }
 
     /// Turns the recorded samples into a [`RunRecord`] with the given provenance;

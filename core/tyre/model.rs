@@ -418,8 +418,13 @@ impl TyreModel {
         };
         let sx = norm(long, x);
         let sy = norm(lat, y);
-        // sx, sy are clamped, so the plain square root cannot overflow.
-        let s = (sx * sx + sy * sy).sqrt();
+        // Plain root in the normal range (cheap); hypot where the squares
+        // could underflow (sx, sy are clamped, so they cannot overflow).
+        let s = if sx.abs().max(sy.abs()) > 1e-140 {
+            (sx * sx + sy * sy).sqrt()
+        } else {
+            sx.hypot(sy)
+        };
         let fx_curve = if sy == 0.0 {
             long.shape(x)
         } else if sx == 0.0 {

@@ -48,10 +48,9 @@ pub(crate) fn script_error(message: impl Into<String>) -> Box<EvalAltResult> {
     ))
 }
 
-/// The vehicle and the simulation that borrows it.
+/// The vehicle and the simulation that shares it.
 struct Plant {
-    // Declared first so it is dropped before `vehicle`.
-    sim: Option<Simulation<'static>>,
+    sim: Option<Simulation>,
     vehicle: Arc<Vehicle>,
 }
 
@@ -64,13 +63,12 @@ impl Plant {
     }
 
     fn start(&mut self, initial: State, solver: SolverSettings, rate: f64) -> Result<(), SimError> {
-        // SAFETY: the reference points into the `Arc` allocation owned by
-        // `self.vehicle`, which is never replaced and outlives `self.sim`:
-        // `sim` is declared first (dropped first) and `into_record` consumes
-        // the simulation while `self` (and so the Arc) is still alive. The
-        // vehicle is only ever read.
-        let vehicle: &'static Vehicle = unsafe { &*Arc::as_ptr(&self.vehicle) };
-        self.sim = Some(Simulation::new(vehicle, initial, solver, rate)?);
+        self.sim = Some(Simulation::new(
+            Arc::clone(&self.vehicle),
+            initial,
+            solver,
+            rate,
+        )?);
         Ok(())
     }
 }
@@ -557,7 +555,7 @@ impl Session {
         Ok(())
     }
 
-    fn sim(&self) -> Option<&Simulation<'static>> {
+    fn sim(&self) -> Option<&Simulation> {
         self.plant.as_ref().and_then(|p| p.sim.as_ref())
     }
 
