@@ -110,7 +110,7 @@ fn every_class_of_problem_is_reported_at_once() {
     let path = edited(dir.path(), |t| {
         t.replace("ratio = 15.0 ", "ratio = \"fifteen\" ")
             .replace("pitch_damping = 10000.0", "")
-            .replace("front_bias = 0.68", "front_bias = 0.68\nbias_rear = 0.3")
+            .replace("front_bias = 0.72", "front_bias = 0.72\nbias_rear = 0.3")
     });
     let o = yawdyn(&["vehicle", path.to_str().unwrap()]);
     assert_eq!(o.status.code(), Some(2));
