@@ -78,6 +78,14 @@ pub struct Args {
     /// Second swept parameter: one line per value (sweep files).
     #[arg(long, value_name = "PARAM")]
     by: Option<String>,
+    /// Handling diagram: fit the understeer gradient over |ay| up to this, g
+    /// (the linear range; 0.4 g is common practice).
+    #[arg(long, value_name = "G", default_value_t = LINEAR_RANGE_G)]
+    fit_max_g: f64,
+    /// Handling diagram: use only the samples from this time on, s (e.g. the
+    /// start of the quasi-steady phase, leaving out the turn-in transient).
+    #[arg(long, value_name = "S")]
+    from: Option<f64>,
 }
 
 fn figure_error(e: FigureError) -> anyhow::Error {
@@ -129,7 +137,14 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let title = title_of(&args.file, &record);
     match kind {
         Kind::Time | Kind::Xy => histories(&args, &record, &title, &out)?,
-        Kind::Handling => handling(&record, &title, &out)?,
+        Kind::Handling => {
+            let record = match args.from {
+                Some(t) if t.is_finite() => from_time(record, t),
+                Some(t) => return Err(bad_input(format!("--from must be finite, got {t}"))),
+                None => record,
+            };
+            handling(&record, &title, &out, args.fit_max_g)?
+        }
         Kind::Gg => friction_usage(&record, &title, &out)?,
         Kind::Auto | Kind::Sweep | Kind::Map => unreachable!("resolved above"),
     }
@@ -166,6 +181,16 @@ fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
     super::stability::plot_map(&map, out)?;
     println!("wrote {}", out.display());
     Ok(Outcome::Success)
+}
+
+/// The record restricted to the samples at or after `t0`, s.
+fn from_time(mut record: RunRecord, t0: f64) -> RunRecord {
+    let start = record.time.partition_point(|&t| t < t0);
+    record.time.drain(..start);
+    for channel in &mut record.channels {
+        channel.data.drain(..start.min(channel.data.len()));
+    }
+    record
 }
 
 fn title_of(file: &Path, record: &RunRecord) -> String {
@@ -209,8 +234,13 @@ fn histories(args: &Args, record: &RunRecord, title: &str, out: &Path) -> anyhow
     Ok(())
 }
 
-fn handling(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
-    let data = handling_data(record, LINEAR_RANGE_G * STANDARD_GRAVITY).map_err(figure_error)?;
+fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyhow::Result<()> {
+    if !(fit_max_g.is_finite() && fit_max_g > 0.0) {
+        return Err(bad_input(format!(
+            "--fit-max-g must be finite and positive, got {fit_max_g}"
+        )));
+    }
+    let data = handling_data(record, fit_max_g * STANDARD_GRAVITY).map_err(figure_error)?;
     let fit = data.fit;
     let method = match data.method {
         HandlingMethod::ConstantRadius { radius_m } => {
@@ -228,7 +258,7 @@ fn handling(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
         Some((fit.gradient_deg_per_g, fit.intercept_deg, fit.ay_max_g)),
     )?;
     println!(
-        "understeer gradient {:.3} deg/g ({} points, |ay| <= {LINEAR_RANGE_G} g, R^2 {:.4})",
+        "understeer gradient {:.3} deg/g ({} points, |ay| <= {fit_max_g} g, R^2 {:.4})",
         fit.gradient_deg_per_g, fit.count, fit.r_squared
     );
     Ok(())
