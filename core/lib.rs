@@ -24,5 +24,6 @@ pub mod plot;
 pub mod results;
 pub mod sim;
 pub mod stability;
+pub mod sweep;
 pub mod table;
 pub mod tyre;

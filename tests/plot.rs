@@ -314,3 +314,55 @@ fn shipped_circle_script_gives_handling_diagram_matching_its_own_fit() {
         "plot {fitted} deg/g, script {own} deg/g"
     );
 }
+
+#[test]
+fn sweep_metric_against_parameter_one_line_per_other_value() {
+    let dir = tempfile::tempdir().unwrap();
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/scripts/step_steer.rhai");
+    let out = yawdyn(
+        dir.path(),
+        &[
+            "sweep",
+            script,
+            "--vary",
+            "chassis.mass=1700:1900:3",
+            "--vary",
+            "drive.front_share=0.3:0.7:2",
+            "--out",
+            "sw.h5",
+        ],
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out));
+    // Several metrics: --metric is required.
+    let out = yawdyn(dir.path(), &["plot", "sw.h5"]);
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out));
+    assert!(text(&out).contains("yaw_rate_gain"), "{}", text(&out));
+    let out = yawdyn(
+        dir.path(),
+        &[
+            "plot",
+            "sw.h5",
+            "--metric",
+            "yaw_rate_gain",
+            "--by",
+            "drive.front_share",
+        ],
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out));
+    assert_labels(
+        &dir.path().join("sw.svg"),
+        &[
+            "chassis.mass",
+            "yaw rate gain",
+            "drive.front_share = 0.3",
+            "drive.front_share = 0.7",
+        ],
+    );
+    let out = yawdyn(dir.path(), &["plot", "sw.h5", "--metric", "yaw_rate_gian"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out).contains("closest: yaw_rate_gain"),
+        "{}",
+        text(&out)
+    );
+}

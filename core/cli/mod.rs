@@ -4,10 +4,12 @@
 
 mod bench;
 mod check;
+mod merge;
 mod plot;
 mod run;
 mod show;
 mod stability;
+mod sweep;
 mod vehicle;
 
 use clap::{Parser, Subcommand};
@@ -85,6 +87,12 @@ enum Command {
     Run(run::Args),
     /// Print the summary of a results file.
     Show(show::Args),
+    /// Run a script over a grid of vehicle parameters, in parallel, into one sweep file.
+    ///
+    /// Exit codes: 0 every case completed and passed; 1 a case failed; 2 bad input.
+    Sweep(sweep::Args),
+    /// Join the shard files of one sweep into the file an unsharded run gives.
+    Merge(merge::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -112,6 +120,8 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Stability(args) => stability::run(args),
         Command::Run(args) => run::run(args),
         Command::Show(args) => show::run(args),
+        Command::Sweep(args) => sweep::run(args),
+        Command::Merge(args) => merge::run(args),
     }
 }
 

@@ -6,8 +6,8 @@
 //! Results files: stacked time histories in engineering units (deg, deg/s,
 //! km/h, g), a cross-plot against `--x`, the handling diagram, or the
 //! friction-usage (g-g) plot. Stability maps: heat map of the yaw/sideslip
-//! damping ratio with unstable points marked. Sweep files are recognised but
-//! cannot be drawn until their reader exists in the library.
+//! damping ratio with unstable points marked. Sweep files: a metric against
+//! a varied parameter, one line per value of the others (`--metric`, `--by`).
 //!
 //! Exit 0 when the plot was written; 2 for bad input (unreadable file,
 //! unknown channel, kind that does not fit the file).
@@ -16,10 +16,10 @@ use std::path::{Path, PathBuf};
 
 use yawdyn::analysis::bicycle::STANDARD_GRAVITY;
 use yawdyn::plot::figures::{
-    FigureError, HandlingMethod, axis_label, channel_data, engineering_unit, file_format,
-    handling_data, stored_vehicle,
+    FigureError, HandlingMethod, axis_label, channel_data, closest_names, engineering_unit,
+    file_format, handling_data, stored_vehicle, sweep_lines,
 };
-use yawdyn::plot::{Axis, Series, gg, handling_diagram, stacked};
+use yawdyn::plot::{Axis, Series, gg, handling_diagram, lines_with_markers, stacked};
 use yawdyn::results::{FORMAT_NAME, RunRecord, read_hdf5};
 
 use super::{Outcome, bad_input};
@@ -30,9 +30,8 @@ const DEFAULT_CHANNELS: [&str; 5] = ["speed", "yaw_rate", "ay", "sideslip", "ste
 /// Linear range of the handling-diagram fit, g (common practice: 0.4 g).
 const LINEAR_RANGE_G: f64 = 0.4;
 
-/// Root `format` of sweep files.
-const SWEEP_FORMAT: &str = "yawdyn-sweep";
 use yawdyn::stability::map::MAP_FORMAT;
+use yawdyn::sweep::FORMAT_NAME as SWEEP_FORMAT;
 
 /// What to draw.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -102,13 +101,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     match format.as_str() {
         FORMAT_NAME => {}
         MAP_FORMAT => return stability_map(&args, &out),
-        SWEEP_FORMAT => {
-            return Err(anyhow::anyhow!(
-                "{}: {format} files cannot be plotted by this build yet (their reader is not \
-                 in the library)",
-                args.file.display()
-            ));
-        }
+        SWEEP_FORMAT => return sweep(&args, &out),
         other => {
             return Err(bad_input(format!(
                 "{}: not a yawdyn file this command can plot (format {other:?})",
@@ -191,6 +184,84 @@ fn from_time(mut record: RunRecord, t0: f64) -> RunRecord {
         channel.data.drain(..start.min(channel.data.len()));
     }
     record
+}
+
+/// A metric of a sweep against one varied parameter, one line per
+/// combination of the other varied parameters (`--by` names the parameter
+/// that makes the lines; the x axis is the first other one).
+fn sweep(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
+    if !matches!(args.kind, Kind::Auto | Kind::Sweep) {
+        return Err(bad_input(format!(
+            "{} is a sweep file: use --kind sweep (or auto)",
+            args.file.display()
+        )));
+    }
+    let file = yawdyn::sweep::read_sweep(&args.file).map_err(|e| bad_input(e.to_string()))?;
+    let summary = &file.summary;
+    let keys: Vec<&str> = summary.parameters.iter().map(|(k, _)| k.as_str()).collect();
+    let names: Vec<&str> = summary.metrics.iter().map(|m| m.name.as_str()).collect();
+    let metric = match &args.metric {
+        Some(name) => summary.metric(name).ok_or_else(|| {
+            bad_input(format!(
+                "metric `{name}` is not in the sweep (closest: {})",
+                closest_names(name, names.iter().copied(), 5).join(", ")
+            ))
+        })?,
+        None => match summary.metrics.as_slice() {
+            [only] => only,
+            _ => {
+                return Err(bad_input(format!(
+                    "choose a metric with --metric: {}",
+                    if names.is_empty() {
+                        "(the sweep has none)".to_string()
+                    } else {
+                        names.join(", ")
+                    }
+                )));
+            }
+        },
+    };
+    if let Some(by) = &args.by
+        && !keys.contains(&by.as_str())
+    {
+        return Err(bad_input(format!(
+            "--by {by}: not a varied parameter of the sweep (varied: {})",
+            keys.join(", ")
+        )));
+    }
+    let x_key = keys
+        .iter()
+        .find(|k| args.by.as_deref() != Some(**k))
+        .copied()
+        .ok_or_else(|| bad_input("the sweep varies no parameter other than --by"))?;
+    let eng = engineering_unit(&metric.unit);
+    let y: Vec<f64> = metric.values.iter().map(|v| v * eng.factor).collect();
+    let lines = sweep_lines(&summary.parameters, x_key, &y)
+        .ok_or_else(|| bad_input("the sweep summary columns differ in length"))?;
+    let series: Vec<Series> = lines
+        .into_iter()
+        .map(|l| {
+            let label = if l.label.is_empty() {
+                metric.name.replace('_', " ")
+            } else {
+                l.label
+            };
+            Series::new(label, l.x, l.y)
+        })
+        .collect();
+    let name = args
+        .file
+        .file_name()
+        .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
+    lines_with_markers(
+        out,
+        &format!("{name}: {} against {x_key}", metric.name),
+        &Axis::new(x_key),
+        &Axis::new(axis_label(&metric.name, &eng.unit)),
+        &series,
+    )?;
+    println!("wrote {}", out.display());
+    Ok(Outcome::Success)
 }
 
 fn title_of(file: &Path, record: &RunRecord) -> String {

@@ -307,6 +307,34 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
         Ok(())
     });
     let s = session.clone();
+    engine.register_fn("param", move |name: &str, default: Dynamic| -> Res<f64> {
+        let mut s = lock(&s);
+        let given = s
+            .manoeuvre_params
+            .iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, v)| v.clone());
+        let value = match given {
+            Some(toml::Value::Float(x)) => x,
+            Some(toml::Value::Integer(i)) => i as f64,
+            Some(other) => {
+                return Err(script_error(format!(
+                    "manoeuvre parameter `{name}` must be a number, got {other}"
+                )));
+            }
+            None => num(&default, "param default")?,
+        };
+        if !value.is_finite() {
+            return Err(script_error(format!(
+                "manoeuvre parameter `{name}` is not finite"
+            )));
+        }
+        if !s.params_read.iter().any(|(n, _)| n == name) {
+            s.params_read.push((name.to_string(), value));
+        }
+        Ok(value)
+    });
+    let s = session.clone();
     engine.register_fn("sample_rate", move |hz: Dynamic| -> Res<()> {
         let mut s = lock(&s);
         s.check_not_started("sample_rate(...)")?;
@@ -422,7 +450,7 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
 }
 
 fn register_inputs(engine: &mut Engine, session: &Shared) {
-    for name in ["steer", "drive", "brake", "front_share"] {
+    for name in ["steer", "drive", "drive_torque", "brake", "front_share"] {
         let s = session.clone();
         engine.register_fn(name, move |v: Dynamic| -> Res<()> {
             let signal = signal_of(&v, name)?;
@@ -432,15 +460,18 @@ fn register_inputs(engine: &mut Engine, session: &Shared) {
                     s.follower = None;
                     s.open.steer = signal;
                 }
-                "drive" | "brake" => {
+                "drive" | "drive_torque" | "brake" => {
                     if s.speed_hold.take().is_some() {
                         s.open.drive = Signal::Constant(0.0);
                         s.open.brake = Signal::Constant(0.0);
                     }
-                    if name == "drive" {
-                        s.open.drive = signal;
-                    } else {
-                        s.open.brake = signal;
+                    match name {
+                        "drive" => {
+                            s.open.drive = signal;
+                            s.open.drive_torque = None;
+                        }
+                        "drive_torque" => s.open.drive_torque = Some(signal),
+                        _ => s.open.brake = signal,
                     }
                 }
                 _ => s.open.front_share = Some(signal),
@@ -463,6 +494,7 @@ fn register_inputs(engine: &mut Engine, session: &Shared) {
         let mut s = lock(&s);
         s.speed_hold = None;
         s.open.drive = Signal::Constant(0.0);
+        s.open.drive_torque = None;
         s.open.brake = Signal::Constant(0.0);
     });
     let follow = |s: &Shared, make: &mut dyn FnMut(&TickState) -> Res<DrivePath>| -> Res<()> {

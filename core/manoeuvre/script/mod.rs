@@ -124,6 +124,11 @@ pub fn run_script(path: &Path, options: &RunOptions) -> Result<RunRecord, Script
     run_script_text(&text, path, options)
 }
 
+/// Overrides whose key starts with this prefix are manoeuvre parameters read
+/// by the script with `param("name", default)`, not vehicle parameters:
+/// `--set manoeuvre.exit_torque=3000`.
+pub const MANOEUVRE_PREFIX: &str = "manoeuvre.";
+
 /// Runs the script `text`; `path` names it in messages and provenance, and
 /// the vehicle file it names is resolved relative to `path`'s directory.
 pub fn run_script_text(

@@ -109,6 +109,9 @@ pub(crate) struct OpenLoop {
     pub brake: Signal,
     /// `None` = the vehicle's own split.
     pub front_share: Option<Signal>,
+    /// Total drive torque at the wheels, N·m, split by the front share
+    /// (replaces `drive` while set).
+    pub drive_torque: Option<Signal>,
 }
 
 /// The commands at any time: held tick outputs over open-loop signals.
@@ -121,17 +124,27 @@ struct Inputs<'a> {
 impl crate::sim::InputSource for Inputs<'_> {
     fn commands(&self, t: f64) -> Commands {
         let h = &self.held;
+        let front_share = h.front_share.unwrap_or_else(|| {
+            self.open
+                .front_share
+                .as_ref()
+                .map_or(self.default_front_share, |s| s.value(t))
+        });
+        let open_axle_torque = self.open.drive_torque.as_ref().map(|signal| {
+            let total = signal.value(t);
+            let share = front_share.clamp(0.0, 1.0);
+            [share * total, (1.0 - share) * total]
+        });
         Commands {
             steer_wheel_angle: h.steer.unwrap_or_else(|| self.open.steer.value(t)),
             drive_request: h.drive.unwrap_or_else(|| self.open.drive.value(t)),
             brake_request: h.brake.unwrap_or_else(|| self.open.brake.value(t)),
-            front_share: h.front_share.unwrap_or_else(|| {
-                self.open
-                    .front_share
-                    .as_ref()
-                    .map_or(self.default_front_share, |s| s.value(t))
+            front_share,
+            axle_torque: h.axle_torque.or(if h.drive.is_some() {
+                None
+            } else {
+                open_axle_torque
             }),
-            axle_torque: h.axle_torque,
             wheel_torque: h.wheel_torque,
             wheel_brake: h.wheel_brake,
         }
@@ -421,6 +434,10 @@ pub(crate) struct Session {
     last_state: TickState,
     pub phases: Vec<(String, f64)>,
     pub remembered: Vec<(String, f64)>,
+    /// Manoeuvre parameters given by the caller (`manoeuvre.<name>=value`).
+    pub manoeuvre_params: Vec<(String, toml::Value)>,
+    /// Parameters the script read with `param`, with the value it got.
+    pub params_read: Vec<(String, f64)>,
     pub metrics: Vec<Metric>,
     pub criteria: Vec<Criterion>,
     pub stop: Option<Stop>,
@@ -436,7 +453,16 @@ impl Session {
         progress: Option<mpsc::Sender<(f64, f64)>>,
     ) -> Self {
         let zero = || Signal::Constant(0.0);
+        let (manoeuvre, caller_overrides): (Vec<Override>, Vec<Override>) = caller_overrides
+            .into_iter()
+            .partition(|o| o.path.starts_with(super::MANOEUVRE_PREFIX));
+        let manoeuvre_params = manoeuvre
+            .into_iter()
+            .map(|o| (o.path[super::MANOEUVRE_PREFIX.len()..].to_string(), o.value))
+            .collect();
         Self {
+            manoeuvre_params,
+            params_read: Vec::new(),
             script_path: path.to_path_buf(),
             script_dir: path.parent().map(Path::to_path_buf).unwrap_or_default(),
             script_text: text.to_string(),
@@ -455,6 +481,7 @@ impl Session {
                 drive: zero(),
                 brake: zero(),
                 front_share: None,
+                drive_torque: None,
             },
             speed_hold: None,
             max_cross_track_error: 0.0,
@@ -714,6 +741,11 @@ impl Session {
                 .map(|(name, v)| (format!("value.{name}"), format!("{v}"))),
         );
         extra.push(("start_speed".into(), format!("{}", self.start_speed)));
+        extra.extend(
+            self.params_read
+                .iter()
+                .map(|(name, v)| (format!("param.{name}"), format!("{v}"))),
+        );
         Provenance {
             yawdyn_version: super::version_text(),
             created_utc: super::now_utc(),
@@ -880,6 +912,31 @@ pub(crate) fn execute(session: Shared, text: &str, path: &Path) -> Result<RunRec
         }
     }
     let mut s = lock(&session);
+    let unread: Vec<&str> = s
+        .manoeuvre_params
+        .iter()
+        .filter(|(name, _)| !s.params_read.iter().any(|(r, _)| r == name))
+        .map(|(name, _)| name.as_str())
+        .collect();
+    if !unread.is_empty() {
+        let known: Vec<String> = s
+            .params_read
+            .iter()
+            .map(|(n, _)| format!("`{n}`"))
+            .collect();
+        return Err(ScriptError::Runtime {
+            at: position(path, Position::NONE),
+            message: format!(
+                "unknown manoeuvre parameter(s) {}; this script reads: {}",
+                unread.join(", "),
+                if known.is_empty() {
+                    "none".to_string()
+                } else {
+                    known.join(", ")
+                }
+            ),
+        });
+    }
     record.metrics = std::mem::take(&mut s.metrics);
     record.criteria = std::mem::take(&mut s.criteria);
     record

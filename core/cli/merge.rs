@@ -1,0 +1,53 @@
+//! `yawdyn merge OUT.h5 SHARD.h5...`: joins the shard files of one sweep into
+//! the file an unsharded run gives.
+
+use std::path::PathBuf;
+
+use yawdyn::sweep::{CaseStatus, SweepError, merge_sweeps};
+use yawdyn::table::fmt_num;
+
+use super::{Outcome, bad_input};
+
+/// Arguments of `yawdyn merge`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// Merged sweep file to write.
+    out: PathBuf,
+    /// Shard files written by `yawdyn sweep --shard K/N`, in any order.
+    #[arg(required = true)]
+    shards: Vec<PathBuf>,
+}
+
+/// Runs `yawdyn merge`. Exit 0 when the merge was written (whatever the
+/// cases' statuses; `yawdyn sweep` reported those), 2 when the shards do not
+/// belong together or do not cover the sweep exactly once.
+pub fn run(args: Args) -> anyhow::Result<Outcome> {
+    if args.shards.iter().any(|s| s == &args.out) {
+        return Err(bad_input(format!(
+            "{}: the output may not be one of the shard files",
+            args.out.display()
+        )));
+    }
+    let report = merge_sweeps(&args.out, &args.shards).map_err(|e: SweepError| {
+        if e.is_bad_input() {
+            bad_input(e.to_string())
+        } else {
+            anyhow::Error::new(e)
+        }
+    })?;
+    let s = &report.summary;
+    let not_completed = s
+        .status
+        .iter()
+        .filter(|&&x| x != CaseStatus::Completed)
+        .count();
+    println!(
+        "merged {} cases from {} shard files into {} ({} not completed) in {} s",
+        s.len(),
+        args.shards.len(),
+        report.out.display(),
+        not_completed,
+        fmt_num(report.wall_time_s, 3)
+    );
+    Ok(Outcome::Success)
+}

@@ -1,0 +1,360 @@
+//! `yawdyn sweep SCRIPT --vary key=start:stop:count ...`: one manoeuvre over a
+//! full-factorial grid of vehicle parameters, in parallel, into one sweep
+//! file (layout: [`yawdyn::sweep`]).
+
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+
+use indicatif::{ProgressBar, ProgressStyle};
+use yawdyn::manoeuvre::script::{RunOptions, ScriptError, run_script};
+use yawdyn::params::{Override, ParamError};
+use yawdyn::results::RunRecord;
+use yawdyn::sweep::{
+    CaseStatus, Grid, Shard, SweepError, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
+};
+use yawdyn::table::{Table, fmt_num};
+
+use super::{Outcome, bad_input, parse_overrides};
+
+/// Rows of the summary table printed before it is cut short.
+const MAX_ROWS: usize = 20;
+/// Metric columns printed before the rest are left to the file.
+const MAX_METRICS: usize = 6;
+/// Characters of a case message printed in the table.
+const MAX_MESSAGE: usize = 60;
+
+/// Arguments of `yawdyn sweep`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// Manoeuvre script (.rhai).
+    script: PathBuf,
+    /// Varied parameter: dotted vehicle key, first value, last value, number
+    /// of values (≥ 1), e.g. `drive.front_share=0:1:11`. Repeatable; the grid
+    /// is full factorial with the first --vary varying slowest.
+    #[arg(long = "vary", value_name = "KEY=START:STOP:COUNT")]
+    vary: Vec<String>,
+    /// Vehicle file replacing the script's own.
+    #[arg(long)]
+    vehicle: Option<PathBuf>,
+    /// Override a vehicle parameter in every case (repeatable; a --vary of the same key wins).
+    #[arg(long = "set", value_name = "KEY=VALUE")]
+    sets: Vec<String>,
+    /// Worker threads (default: the available parallelism).
+    #[arg(long)]
+    jobs: Option<usize>,
+    /// Sweep file to write. Default: results/<script name>_sweep.h5
+    /// (results/<script name>_sweep_shard<K>of<N>.h5 with --shard).
+    #[arg(long)]
+    out: Option<PathBuf>,
+    /// Run only the K-th (1-based) of N contiguous slices of the case list.
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
+    /// Channels to store per case, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "A,B,...")]
+    channels: Option<Vec<String>>,
+    /// No progress bar.
+    #[arg(long)]
+    quiet: bool,
+}
+
+/// The checked form of [`Args`].
+struct Config {
+    spec: SweepSpec,
+    script: PathBuf,
+    vehicle: Option<PathBuf>,
+    shard: Shard,
+    jobs: usize,
+    out: PathBuf,
+    quiet: bool,
+}
+
+/// Runs `yawdyn sweep`.
+pub fn run(args: Args) -> anyhow::Result<Outcome> {
+    let config = check(args)?;
+    preflight(&config)?;
+    let runner = script_case_runner(&config.script, config.vehicle.as_deref());
+
+    let range = config.shard.range(config.spec.grid.len());
+    let bar = if config.quiet || !std::io::stderr().is_terminal() {
+        ProgressBar::hidden()
+    } else {
+        let bar = ProgressBar::new(range.len() as u64);
+        if let Ok(style) = ProgressStyle::with_template(
+            "{elapsed_precise} [{bar:40}] {pos}/{len} cases, eta {eta}",
+        ) {
+            bar.set_style(style.progress_chars("=> "));
+        }
+        bar
+    };
+    let tick = || bar.inc(1);
+    let options = SweepOptions {
+        jobs: config.jobs,
+        shard: config.shard,
+        progress: Some(&tick),
+    };
+    let report = run_sweep(&config.spec, &options, &runner, &config.out).map_err(sweep_error)?;
+    bar.finish_and_clear();
+    print_report(&config, &report);
+    Ok(if report.failed() == 0 {
+        Outcome::Success
+    } else {
+        Outcome::Failed
+    })
+}
+
+/// Validates the raw options into a [`Config`] (bad input names the option).
+fn check(args: Args) -> anyhow::Result<Config> {
+    if args.vary.is_empty() {
+        return Err(bad_input("give at least one --vary KEY=START:STOP:COUNT"));
+    }
+    let axes = args
+        .vary
+        .iter()
+        .map(|text| VaryAxis::parse(text))
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(sweep_error)?;
+    let grid = Grid::new(axes).map_err(sweep_error)?;
+    let base_overrides = parse_overrides(&args.sets)?;
+    let shard = match &args.shard {
+        Some(text) => Shard::parse(text).map_err(sweep_error)?,
+        None => Shard::WHOLE,
+    };
+    let jobs = match args.jobs {
+        Some(0) => return Err(bad_input("--jobs 0: need at least one worker thread")),
+        Some(n) => n,
+        None => std::thread::available_parallelism().map_or(1, |n| n.get()),
+    };
+    let channels = match args.channels {
+        Some(list) => {
+            let list: Vec<String> = list.iter().map(|c| c.trim().to_string()).collect();
+            if list.iter().any(String::is_empty) {
+                return Err(bad_input("--channels: empty channel name in the list"));
+            }
+            Some(list)
+        }
+        None => None,
+    };
+    let script_text = std::fs::read_to_string(&args.script)
+        .map_err(|e| bad_input(format!("cannot read script {}: {e}", args.script.display())))?;
+    if let Some(vehicle) = &args.vehicle
+        && !vehicle.is_file()
+    {
+        return Err(bad_input(format!(
+            "--vehicle {}: no such file",
+            vehicle.display()
+        )));
+    }
+    let stem = args.script.file_stem().map_or_else(
+        || "script".to_string(),
+        |s| s.to_string_lossy().into_owned(),
+    );
+    let out = args.out.unwrap_or_else(|| {
+        let name = if shard == Shard::WHOLE {
+            format!("{stem}_sweep.h5")
+        } else {
+            format!("{stem}_sweep_shard{}of{}.h5", shard.index, shard.count)
+        };
+        Path::new("results").join(name)
+    });
+    let spec = SweepSpec {
+        script_path: args.script.display().to_string(),
+        script_text,
+        vehicle_path: args
+            .vehicle
+            .as_ref()
+            .map_or_else(String::new, |v| v.display().to_string()),
+        base_overrides,
+        grid,
+        channels,
+    };
+    Ok(Config {
+        spec,
+        script: args.script,
+        vehicle: args.vehicle,
+        shard,
+        jobs,
+        out,
+        quiet: args.quiet,
+    })
+}
+
+/// The case runner of the command line: the manoeuvre script runner
+/// ([`run_script`]) with the case's overrides.
+fn script_case_runner<'a>(
+    script: &'a Path,
+    vehicle: Option<&'a Path>,
+) -> impl Fn(&[Override]) -> Result<RunRecord, String> + Sync + 'a {
+    move |overrides| {
+        let options = RunOptions {
+            vehicle: vehicle.map(Path::to_path_buf),
+            overrides: overrides.to_vec(),
+            progress: None,
+        };
+        run_script(script, &options).map_err(|e| with_causes(&e))
+    }
+}
+
+/// An error and its chain of causes as one message (`error: cause: cause`).
+fn with_causes(e: &dyn std::error::Error) -> String {
+    let mut text = e.to_string();
+    let mut source = e.source();
+    while let Some(cause) = source {
+        text.push_str(": ");
+        text.push_str(&cause.to_string());
+        source = cause.source();
+    }
+    text
+}
+
+/// Catches input errors common to every case before the sweep starts, so
+/// they give exit code 2 and no file: the script must parse and run, and the
+/// varied and `--set` keys must exist. Runs the first case of the shard once
+/// on this thread (its result is discarded; the sweep runs it again) and
+/// checks the channel selection against its output.
+fn preflight(config: &Config) -> anyhow::Result<()> {
+    let range = config.shard.range(config.spec.grid.len());
+    if range.is_empty() {
+        return Ok(());
+    }
+    let mut overrides = config.spec.base_overrides.clone();
+    overrides.extend(config.spec.grid.overrides(range.start));
+    let options = RunOptions {
+        vehicle: config.vehicle.clone(),
+        overrides,
+        progress: None,
+    };
+    match run_script(&config.script, &options) {
+        Ok(record) => {
+            if let Some(wanted) = &config.spec.channels {
+                for name in wanted {
+                    if record.channel(name).is_none() {
+                        let known: Vec<&str> =
+                            record.channels.iter().map(|c| c.name.as_str()).collect();
+                        return Err(bad_input(format!(
+                            "--channels: the run has no channel `{name}`; it has: {}",
+                            known.join(", ")
+                        )));
+                    }
+                }
+            }
+            Ok(())
+        }
+        Err(
+            e @ (ScriptError::Read { .. }
+            | ScriptError::Syntax { .. }
+            | ScriptError::Vehicle {
+                source: ParamError::Read { .. },
+            }),
+        ) => Err(bad_input(with_causes(&e))),
+        Err(ScriptError::Vehicle {
+            source: ParamError::Invalid { issues, .. },
+        }) if issues.iter().any(|i| is_key_problem(config, i)) => {
+            let lines: Vec<String> = issues
+                .iter()
+                .filter(|i| is_key_problem(config, i))
+                .map(|i| {
+                    let option = if config.spec.grid.keys().contains(&i.path) {
+                        "--vary"
+                    } else if config.spec.base_overrides.iter().any(|o| o.path == i.path) {
+                        "--set"
+                    } else {
+                        "vehicle file:"
+                    };
+                    let message = i.message.replace("(from <--set>) ", "");
+                    format!("{option} {}: {message}", i.path)
+                })
+                .collect();
+            Err(bad_input(lines.join("\n")))
+        }
+        // Anything else may depend on the case's values: the sweep records it per case.
+        Err(_) => Ok(()),
+    }
+}
+
+/// A parameter problem that every case shares: an unknown key anywhere, or a
+/// varied key that does not take a number.
+fn is_key_problem(config: &Config, issue: &yawdyn::params::ParamIssue) -> bool {
+    issue.message.contains("unknown key")
+        || (issue.message.contains("wrong type") && config.spec.grid.keys().contains(&issue.path))
+}
+
+/// Maps a sweep error to exit code 2 when it is the user's input.
+fn sweep_error(e: SweepError) -> anyhow::Error {
+    if e.is_bad_input() {
+        bad_input(e.to_string())
+    } else {
+        anyhow::Error::new(e)
+    }
+}
+
+/// Prints the summary table (parameters × metrics × status) and the totals.
+fn print_report(config: &Config, report: &SweepReport) {
+    let s = &report.summary;
+    let metrics = &s.metrics[..s.metrics.len().min(MAX_METRICS)];
+    let mut headers = vec!["case".to_string()];
+    headers.extend(s.parameters.iter().map(|(k, _)| k.clone()));
+    headers.extend(metrics.iter().map(|m| {
+        if m.unit.is_empty() {
+            m.name.clone()
+        } else {
+            format!("{} [{}]", m.name, m.unit)
+        }
+    }));
+    headers.push("status".into());
+    let with_message = s.message[..s.len().min(MAX_ROWS)]
+        .iter()
+        .any(|m| !m.is_empty());
+    if with_message {
+        headers.push("message".into());
+    }
+    let mut table = Table::new(headers);
+    for row in 0..s.len().min(MAX_ROWS) {
+        let mut cells = vec![s.case_index[row].to_string()];
+        cells.extend(s.parameters.iter().map(|(_, v)| fmt_num(v[row], 4)));
+        cells.extend(metrics.iter().map(|m| fmt_num(m.values[row], 4)));
+        cells.push(s.status[row].name().to_string());
+        let message = &s.message[row];
+        if !with_message {
+            table.row(cells);
+            continue;
+        }
+        cells.push(if message.chars().count() > MAX_MESSAGE {
+            let cut: String = message.chars().take(MAX_MESSAGE - 1).collect();
+            format!("{}…", cut.replace('\n', " "))
+        } else {
+            message.replace('\n', " ")
+        });
+        table.row(cells);
+    }
+    print!("{}", table.render());
+    if s.len() > MAX_ROWS {
+        println!(
+            "... {} more cases not shown (all are in /summary of {})",
+            s.len() - MAX_ROWS,
+            report.out.display()
+        );
+    }
+    if s.metrics.len() > MAX_METRICS {
+        println!(
+            "... {} more metrics not shown",
+            s.metrics.len() - MAX_METRICS
+        );
+    }
+    let count = |status: CaseStatus| s.status.iter().filter(|&&x| x == status).count();
+    println!(
+        "cases: {} (shard {} of {} in the grid), completed: {}, criteria failed: {}, run failed: {}, error: {}",
+        s.len(),
+        config.shard,
+        config.spec.grid.len(),
+        count(CaseStatus::Completed),
+        count(CaseStatus::CriteriaFailed),
+        count(CaseStatus::Failed),
+        count(CaseStatus::Error)
+    );
+    println!(
+        "wall time: {} s on {} threads; written to {}",
+        fmt_num(report.wall_time_s, 3),
+        config.jobs,
+        report.out.display()
+    );
+}
