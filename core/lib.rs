@@ -16,6 +16,7 @@
 
 pub mod analysis;
 pub mod bench;
+pub mod check;
 pub mod manoeuvre;
 pub mod model;
 pub mod params;

@@ -3,7 +3,9 @@
 //! any work starts.
 
 mod bench;
+mod check;
 mod merge;
+mod plot;
 mod run;
 mod show;
 mod stability;
@@ -73,6 +75,10 @@ enum Command {
     Vehicle(vehicle::Args),
     /// Measure model speed: ns per derivative evaluation, real-time factor.
     Bench(bench::Args),
+    /// Compare a results file with a baseline results file (regression check).
+    Check(check::Args),
+    /// Plot a results, sweep or stability-map file as SVG.
+    Plot(plot::Args),
     /// Trim in steady cornering, linearise and report eigenvalues, modes and stability (or a map with --vary).
     Stability(stability::Args),
     /// Run a manoeuvre script and write the results file (HDF5).
@@ -109,6 +115,8 @@ pub fn run() -> anyhow::Result<Outcome> {
     match cli.command {
         Command::Vehicle(args) => vehicle::run(args),
         Command::Bench(args) => bench::run(args),
+        Command::Check(args) => check::run(args),
+        Command::Plot(args) => plot::run(args),
         Command::Stability(args) => stability::run(args),
         Command::Run(args) => run::run(args),
         Command::Show(args) => show::run(args),

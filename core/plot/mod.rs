@@ -6,7 +6,8 @@
 //! ([`handling_diagram`]), the friction-usage ("g-g") plot ([`gg`]) and
 //! stability maps ([`heat_map`]). It takes plain data in (numbers, labels)
 //! and writes one SVG file per call; it knows nothing of the vehicle model,
-//! the results file or the analysis that produced the numbers.
+//! the results file or the analysis that produced the numbers, except in
+//! [`figures`], which turns a results record into plot data.
 //!
 //! The look is our own: white background, light grid, colour-blind-friendly
 //! line colours (the Okabe–Ito palette, Okabe & Ito, "Color Universal Design",
@@ -44,6 +45,7 @@
 //! # Ok::<(), yawdyn::plot::PlotError>(())
 //! ```
 
+pub mod figures;
 mod heat_map;
 mod lines;
 mod style;
