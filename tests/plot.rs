@@ -293,7 +293,7 @@ fn shipped_circle_script_gives_handling_diagram_matching_its_own_fit() {
     // Auto kind from the script path; radius from the remembered value.
     assert_labels(
         &dir.path().join("circle.svg"),
-        &["lateral acceleration [g]", "constant radius 100 m"],
+        &["lateral acceleration [g]", "handling diagram, R = 100 m"],
     );
     let fitted: f64 = report
         .split("understeer gradient ")

@@ -27,8 +27,10 @@ use super::{Outcome, bad_input};
 /// Channels plotted when `--channels` is not given.
 const DEFAULT_CHANNELS: [&str; 5] = ["speed", "yaw_rate", "ay", "sideslip", "steer_wheel_angle"];
 
-/// Linear range of the handling-diagram fit, g (common practice: 0.4 g).
-const LINEAR_RANGE_G: f64 = 0.4;
+/// Range of the handling-diagram fit, g: 2 m/s², the low-lateral-acceleration
+/// range of the shipped circle script's own `understeer_gradient` metric, so
+/// that the plot and the metric agree (0.4 g is a common wider choice).
+const LINEAR_RANGE_G: f64 = 2.0 / 9.80665;
 
 use yawdyn::stability::map::MAP_FORMAT;
 use yawdyn::sweep::FORMAT_NAME as SWEEP_FORMAT;
@@ -78,11 +80,12 @@ pub struct Args {
     #[arg(long, value_name = "PARAM")]
     by: Option<String>,
     /// Handling diagram: fit the understeer gradient over |ay| up to this, g
-    /// (the linear range; 0.4 g is common practice).
+    /// (default 2 m/s² ≈ 0.204 g, as the circle script's metric).
     #[arg(long, value_name = "G", default_value_t = LINEAR_RANGE_G)]
     fit_max_g: f64,
     /// Handling diagram: use only the samples from this time on, s (e.g. the
     /// start of the quasi-steady phase, leaving out the turn-in transient).
+    /// Default: the start of the run's `speed_sweep` phase when it has one.
     #[arg(long, value_name = "S")]
     from: Option<f64>,
 }
@@ -134,7 +137,10 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
             let record = match args.from {
                 Some(t) if t.is_finite() => from_time(record, t),
                 Some(t) => return Err(bad_input(format!("--from must be finite, got {t}"))),
-                None => record,
+                None => match phase_start(&record, "speed_sweep") {
+                    Some(t) => from_time(record, t),
+                    None => record,
+                },
             };
             handling(&record, &title, &out, args.fit_max_g)?
         }
@@ -177,6 +183,17 @@ fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
 }
 
 /// The record restricted to the samples at or after `t0`, s.
+/// Start time of the phase `name` recorded in the provenance, s.
+fn phase_start(record: &RunRecord, name: &str) -> Option<f64> {
+    let key = format!("phase.{name}");
+    record
+        .provenance
+        .extra
+        .iter()
+        .find(|(k, _)| *k == key)
+        .and_then(|(_, v)| v.parse().ok())
+}
+
 fn from_time(mut record: RunRecord, t0: f64) -> RunRecord {
     let start = record.time.partition_point(|&t| t < t0);
     record.time.drain(..start);
@@ -268,10 +285,12 @@ fn title_of(file: &Path, record: &RunRecord) -> String {
     let name = file
         .file_name()
         .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
-    match record.provenance.script_path.as_str() {
-        "" => name,
-        script => format!("{name} ({script})"),
-    }
+    // File names only: full paths make titles too long for the plot.
+    let script = Path::new(&record.provenance.script_path)
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    if script.is_empty() { name } else { script }
 }
 
 /// A channel's samples in display units, with its axis title.
@@ -315,7 +334,7 @@ fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyh
     let fit = data.fit;
     let method = match data.method {
         HandlingMethod::ConstantRadius { radius_m } => {
-            format!("road-wheel angle, constant radius {radius_m} m")
+            format!("handling diagram, R = {radius_m} m")
         }
         HandlingMethod::AckermannCorrected => {
             "road-wheel angle minus Ackermann angle L*curvature".to_string()
@@ -329,7 +348,7 @@ fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyh
         Some((fit.gradient_deg_per_g, fit.intercept_deg, fit.ay_max_g)),
     )?;
     println!(
-        "understeer gradient {:.3} deg/g ({} points, |ay| <= {fit_max_g} g, R^2 {:.4})",
+        "understeer gradient {:.3} deg/g ({} points, |ay| <= {fit_max_g:.3} g, R^2 {:.4})",
         fit.gradient_deg_per_g, fit.count, fit.r_squared
     );
     Ok(())
