@@ -23,7 +23,11 @@ fn shipped_scripts_match_their_baselines() {
     for script in &scripts {
         let name = script.file_stem().unwrap().to_string_lossy().into_owned();
         let baseline = repo_path(&format!("results/baselines/{name}.h5"));
-        assert!(baseline.exists(), "no baseline for {name}: {}", baseline.display());
+        assert!(
+            baseline.exists(),
+            "no baseline for {name}: {}",
+            baseline.display()
+        );
         let out = format!("{name}.h5");
         dir.yawdyn(["run", script.to_str().unwrap(), "--quiet", "--out", &out])
             .expect_code(0);
