@@ -1,11 +1,21 @@
 //! Writing and reading the HDF5 results file (layout: see the module
-//! documentation of [`crate::results`]).
+//! documentation of [`crate::results`]), and the HDF5 layer the sweep file
+//! shares with it.
+//!
+//! A sweep file stores each case in a group `/cases/<n>/` with the same
+//! sub-layout as a results file's root (`time`, `channel_order`, `channels/*`,
+//! `metric_order`, `metrics/*`, `criteria/*`). [`H5Context::write_samples`]
+//! and [`H5Context::read_samples`] are the one implementation of that block;
+//! the string/number helpers, the unlocked file builder and the switch for
+//! HDF5 object time tracking live here too. Errors of this layer are
+//! [`H5Error`]s naming the file; each boundary converts them into its own
+//! enum ([`ResultsError`] here, `SweepError` in [`crate::sweep`]).
 
 use std::path::{Path, PathBuf};
 use std::str::FromStr;
 
 use hdf5::types::VarLenUnicode;
-use hdf5::{Dataset, File, Group, Location};
+use hdf5::{Dataset, File, Group, H5Type, Location};
 
 use super::atomic::write_atomically;
 use super::{
@@ -30,14 +40,11 @@ pub fn write_hdf5(record: &RunRecord, path: &Path) -> Result<(), ResultsError> {
         reason,
     })?;
     write_atomically(path, |temp| {
-        let out = Out {
-            path: path.to_path_buf(),
-        };
-        let file = unlocked_file()
-            .create(temp)
-            .map_err(out.h5("creating the HDF5 file"))?;
-        out.write_all(&file, record)?;
-        file.close().map_err(out.h5("closing the HDF5 file"))
+        let ctx = H5Context::new(path, TrackTimes::On);
+        let file = ctx.create_file(temp)?;
+        write_all(&ctx, &file, record)?;
+        file.close().map_err(ctx.h5("closing the HDF5 file"))?;
+        Ok(())
     })
 }
 
@@ -48,14 +55,222 @@ pub fn write_hdf5(record: &RunRecord, path: &Path) -> Result<(), ResultsError> {
 /// [`ResultsError`] (never a panic) when the file is missing, not HDF5, or
 /// inconsistent.
 pub fn read_hdf5(path: &Path) -> Result<RunRecord, ResultsError> {
-    let inp = Out {
-        path: path.to_path_buf(),
+    let ctx = H5Context::new(path, TrackTimes::On);
+    let file = ctx.open_file()?;
+    check_format(&ctx, &file)?;
+    read_all(&ctx, &file)
+}
+
+// ----- the results file ---------------------------------------------------
+
+fn write_all(ctx: &H5Context, file: &File, record: &RunRecord) -> Result<(), ResultsError> {
+    let root: &Group = file;
+    let prov = &record.provenance;
+    ctx.attr_str(root, "format", FORMAT_NAME)?;
+    ctx.attr_i64(root, "format_version", FORMAT_VERSION)?;
+    let (status, message, failure_time_s) = match &record.status {
+        RunStatus::Completed => ("completed", "", f64::NAN),
+        RunStatus::Failed { message, time_s } => ("failed", message.as_str(), *time_s),
     };
-    let file = unlocked_file()
-        .open(path)
-        .map_err(inp.h5("opening the file as HDF5"))?;
-    inp.check_format(&file)?;
-    inp.read_all(&file)
+    ctx.attr_str(root, "status", status)?;
+    ctx.attr_str(root, "status_message", message)?;
+    ctx.attr_f64(root, "failure_time_s", failure_time_s)?;
+    ctx.attr_str(root, "yawdyn_version", &prov.yawdyn_version)?;
+    ctx.attr_str(root, "created_utc", &prov.created_utc)?;
+    let samples = Samples {
+        time: &record.time,
+        channels: &record.channels,
+        metrics: &record.metrics,
+        criteria: &record.criteria,
+    };
+    ctx.write_samples(root, &samples, Descriptions::Full)?;
+    write_provenance(ctx, root, prov)
+}
+
+fn write_provenance(ctx: &H5Context, root: &Group, prov: &Provenance) -> Result<(), ResultsError> {
+    let group = ctx.group(root, "provenance")?;
+    ctx.attr_str(&group, "script_path", &prov.script_path)?;
+    ctx.attr_str(&group, "vehicle_path", &prov.vehicle_path)?;
+    ctx.attr_str(&group, "solver", &prov.solver)?;
+    ctx.attr_f64(&group, "rtol", prov.rtol)?;
+    ctx.attr_f64(&group, "atol", prov.atol)?;
+    ctx.attr_f64(&group, "fixed_step_s", prov.fixed_step_s)?;
+    ctx.attr_f64(&group, "sample_rate_hz", prov.sample_rate_hz)?;
+    ctx.attr_f64(&group, "tick_rate_hz", prov.tick_rate_hz)?;
+    ctx.dataset_str(&group, "script_text", &prov.script_text)?;
+    ctx.dataset_str(&group, "vehicle_toml", &prov.vehicle_toml)?;
+    ctx.dataset_strs(&group, "overrides", &str_refs(&prov.overrides))?;
+    let keys: Vec<&str> = prov.extra.iter().map(|(k, _)| k.as_str()).collect();
+    let values: Vec<&str> = prov.extra.iter().map(|(_, v)| v.as_str()).collect();
+    ctx.dataset_strs(&group, "extra_keys", &keys)?;
+    ctx.dataset_strs(&group, "extra_values", &values)?;
+    Ok(())
+}
+
+fn check_format(ctx: &H5Context, file: &File) -> Result<(), ResultsError> {
+    let not_ours = |found: String| ResultsError::NotResultsFile {
+        path: ctx.path.clone(),
+        found,
+    };
+    let attr = file
+        .attr("format")
+        .map_err(|_| not_ours("no `format` attribute on the root group".to_string()))?;
+    let format: VarLenUnicode = attr
+        .read_scalar()
+        .map_err(|_| not_ours("the `format` attribute is not a text scalar".to_string()))?;
+    if format.as_str() != FORMAT_NAME {
+        return Err(not_ours(format!("format is {:?}", format.as_str())));
+    }
+    let version = ctx.read_attr_i64(file, "format_version")?;
+    if version != FORMAT_VERSION {
+        return Err(ResultsError::UnsupportedVersion {
+            path: ctx.path.clone(),
+            found: version,
+            supported: FORMAT_VERSION,
+        });
+    }
+    Ok(())
+}
+
+fn read_all(ctx: &H5Context, file: &File) -> Result<RunRecord, ResultsError> {
+    let root: &Group = file;
+    let status = match ctx.read_attr_str(root, "status")?.as_str() {
+        "completed" => RunStatus::Completed,
+        "failed" => RunStatus::Failed {
+            message: ctx.read_attr_str(root, "status_message")?,
+            time_s: ctx.read_attr_f64(root, "failure_time_s")?,
+        },
+        other => return Err(ctx.invalid(format!("unknown status {other:?}")).into()),
+    };
+    let samples = ctx.read_samples(root)?;
+    let provenance = read_provenance(ctx, root)?;
+    Ok(RunRecord {
+        time: samples.time,
+        channels: samples.channels,
+        provenance,
+        status,
+        metrics: samples.metrics,
+        criteria: samples.criteria,
+    })
+}
+
+fn read_provenance(ctx: &H5Context, root: &Group) -> Result<Provenance, ResultsError> {
+    let group = ctx.open_group(root, "provenance")?;
+    let keys = ctx.read_strs(&group, "extra_keys")?;
+    let values = ctx.read_strs(&group, "extra_values")?;
+    if keys.len() != values.len() {
+        return Err(ctx
+            .invalid("/provenance/extra_keys and extra_values differ in length")
+            .into());
+    }
+    Ok(Provenance {
+        yawdyn_version: ctx.read_attr_str(root, "yawdyn_version")?,
+        created_utc: ctx.read_attr_str(root, "created_utc")?,
+        script_path: ctx.read_attr_str(&group, "script_path")?,
+        script_text: ctx.read_str(&group, "script_text")?,
+        vehicle_path: ctx.read_attr_str(&group, "vehicle_path")?,
+        vehicle_toml: ctx.read_str(&group, "vehicle_toml")?,
+        overrides: ctx.read_strs(&group, "overrides")?,
+        solver: ctx.read_attr_str(&group, "solver")?,
+        rtol: ctx.read_attr_f64(&group, "rtol")?,
+        atol: ctx.read_attr_f64(&group, "atol")?,
+        fixed_step_s: ctx.read_attr_f64(&group, "fixed_step_s")?,
+        sample_rate_hz: ctx.read_attr_f64(&group, "sample_rate_hz")?,
+        tick_rate_hz: ctx.read_attr_f64(&group, "tick_rate_hz")?,
+        extra: keys.into_iter().zip(values).collect(),
+    })
+}
+
+/// The items of `items` as `&str`s, for the text-list writers.
+pub(crate) fn str_refs(items: &[String]) -> Vec<&str> {
+    items.iter().map(String::as_str).collect()
+}
+
+// ----- the HDF5 layer shared with sweep files -----------------------------
+
+/// Whether HDF5 records creation/modification times in the object headers
+/// of the groups a [`H5Context`] creates (and of the root group of a file it
+/// creates).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum TrackTimes {
+    /// HDF5's default; results files keep it.
+    On,
+    /// No times stored: sweep files, so equal inputs give byte-identical files.
+    Off,
+}
+
+/// Which optional `description` attributes [`H5Context::write_samples`] adds
+/// besides those of the channels.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Descriptions {
+    /// Also on `time` and `criteria/passed` (results files).
+    Full,
+    /// Only on the channels (sweep cases).
+    ChannelsOnly,
+}
+
+/// The block written by [`H5Context::write_samples`]: sample times, channels,
+/// metrics and criteria of one run.
+pub(crate) struct Samples<'a> {
+    /// Sample times, s.
+    pub(crate) time: &'a [f64],
+    /// Channels, each as long as `time`.
+    pub(crate) channels: &'a [Channel],
+    /// Metrics, in the order returned by the run.
+    pub(crate) metrics: &'a [Metric],
+    /// Criteria, in declared order.
+    pub(crate) criteria: &'a [Criterion],
+}
+
+/// The block read by [`H5Context::read_samples`] (owned form of [`Samples`]).
+pub(crate) struct SamplesRead {
+    /// Sample times, s.
+    pub(crate) time: Vec<f64>,
+    /// Channels in `channel_order`, each as long as `time`.
+    pub(crate) channels: Vec<Channel>,
+    /// Metrics in `metric_order`.
+    pub(crate) metrics: Vec<Metric>,
+    /// Criteria in stored order.
+    pub(crate) criteria: Vec<Criterion>,
+}
+
+/// An error of the shared HDF5 layer; always names the file. Converted with
+/// `From` into [`ResultsError`] (and into `SweepError` in [`crate::sweep`]).
+#[derive(Debug)]
+pub(crate) enum H5Error {
+    /// The HDF5 library reported an error while doing `action`.
+    Hdf5 {
+        /// The file.
+        path: PathBuf,
+        /// What was being done, e.g. `writing dataset time in /`.
+        action: String,
+        /// The HDF5 error.
+        source: hdf5::Error,
+    },
+    /// The data cannot be stored, or the file's contents do not fit together.
+    Invalid {
+        /// The file.
+        path: PathBuf,
+        /// What is wrong.
+        reason: String,
+    },
+}
+
+impl From<H5Error> for ResultsError {
+    fn from(e: H5Error) -> ResultsError {
+        match e {
+            H5Error::Hdf5 {
+                path,
+                action,
+                source,
+            } => ResultsError::Hdf5 {
+                path,
+                action,
+                source,
+            },
+            H5Error::Invalid { path, reason } => ResultsError::Invalid { path, reason },
+        }
+    }
 }
 
 /// Open or create HDF5 files without HDF5's own `flock` locking.
@@ -73,24 +288,56 @@ fn unlocked_file() -> hdf5::file::FileBuilder {
     builder
 }
 
-/// Context for one file: turns HDF5 errors into [`ResultsError`]s naming it.
-struct Out {
-    path: PathBuf,
+/// Context for one file: the writers and readers of the shared layout, with
+/// HDF5 errors turned into [`H5Error`]s naming the file.
+pub(crate) struct H5Context {
+    /// The file as the user named it (not the temporary name written to).
+    pub(crate) path: PathBuf,
+    track_times: TrackTimes,
 }
 
-impl Out {
-    fn h5(&self, action: impl Into<String>) -> impl FnOnce(hdf5::Error) -> ResultsError {
+impl H5Context {
+    /// A context for `path`; `track_times` applies to the groups it creates.
+    pub(crate) fn new(path: &Path, track_times: TrackTimes) -> H5Context {
+        H5Context {
+            path: path.to_path_buf(),
+            track_times,
+        }
+    }
+
+    /// Creates (truncating) the HDF5 file `temp`, unlocked, with the root
+    /// group's time tracking as set for this context.
+    pub(crate) fn create_file(&self, temp: &Path) -> Result<File, H5Error> {
+        let mut builder = unlocked_file();
+        if self.track_times == TrackTimes::Off {
+            builder.with_fcpl(|fcpl| fcpl.obj_track_times(false));
+        }
+        builder
+            .create(temp)
+            .map_err(self.h5("creating the HDF5 file"))
+    }
+
+    /// Opens [`H5Context::path`] read-only, unlocked.
+    pub(crate) fn open_file(&self) -> Result<File, H5Error> {
+        unlocked_file()
+            .open(&self.path)
+            .map_err(self.h5("opening the file as HDF5"))
+    }
+
+    /// Maps an HDF5 error met while doing `action`.
+    pub(crate) fn h5(&self, action: impl Into<String>) -> impl FnOnce(hdf5::Error) -> H5Error {
         let path = self.path.clone();
         let action = action.into();
-        move |source| ResultsError::Hdf5 {
+        move |source| H5Error::Hdf5 {
             path,
             action,
             source,
         }
     }
 
-    fn invalid(&self, reason: impl Into<String>) -> ResultsError {
-        ResultsError::Invalid {
+    /// An [`H5Error::Invalid`] for this file.
+    pub(crate) fn invalid(&self, reason: impl Into<String>) -> H5Error {
+        H5Error::Invalid {
             path: self.path.clone(),
             reason: reason.into(),
         }
@@ -98,53 +345,53 @@ impl Out {
 
     // ----- writing -------------------------------------------------------
 
-    fn write_all(&self, file: &File, record: &RunRecord) -> Result<(), ResultsError> {
-        let root: &Group = file;
-        let prov = &record.provenance;
-        self.attr_str(root, "format", FORMAT_NAME)?;
-        self.attr_i64(root, "format_version", FORMAT_VERSION)?;
-        let (status, message, failure_time_s) = match &record.status {
-            RunStatus::Completed => ("completed", "", f64::NAN),
-            RunStatus::Failed { message, time_s } => ("failed", message.as_str(), *time_s),
-        };
-        self.attr_str(root, "status", status)?;
-        self.attr_str(root, "status_message", message)?;
-        self.attr_f64(root, "failure_time_s", failure_time_s)?;
-        self.attr_str(root, "yawdyn_version", &prov.yawdyn_version)?;
-        self.attr_str(root, "created_utc", &prov.created_utc)?;
-
-        let time = self.dataset_f64(root, "time", &record.time)?;
+    /// Writes `samples` into `group` (the root of a results file, or a
+    /// sweep case group) in the layout of [`crate::results`].
+    pub(crate) fn write_samples(
+        &self,
+        group: &Group,
+        samples: &Samples<'_>,
+        descriptions: Descriptions,
+    ) -> Result<(), H5Error> {
+        let full = descriptions == Descriptions::Full;
+        let time = self.dataset_f64(group, "time", samples.time)?;
         self.attr_str(&time, "units", "s")?;
-        self.attr_str(
-            &time,
-            "description",
-            "simulation time of each output sample",
-        )?;
+        if full {
+            self.attr_str(
+                &time,
+                "description",
+                "simulation time of each output sample",
+            )?;
+        }
 
-        let names: Vec<&str> = record.channels.iter().map(|c| c.name.as_str()).collect();
-        self.dataset_strs(root, "channel_order", &names)?;
-        let channels = self.group(root, "channels")?;
-        for channel in &record.channels {
+        let names: Vec<&str> = samples.channels.iter().map(|c| c.name.as_str()).collect();
+        self.dataset_strs(group, "channel_order", &names)?;
+        let channels = self.group(group, "channels")?;
+        for channel in samples.channels {
             let ds = self.dataset_f64(&channels, &channel.name, &channel.data)?;
             self.attr_str(&ds, "units", &channel.unit)?;
             self.attr_str(&ds, "description", &channel.description)?;
         }
 
-        let names: Vec<&str> = record.metrics.iter().map(|m| m.name.as_str()).collect();
-        self.dataset_strs(root, "metric_order", &names)?;
-        let metrics = self.group(root, "metrics")?;
-        for metric in &record.metrics {
+        let names: Vec<&str> = samples.metrics.iter().map(|m| m.name.as_str()).collect();
+        self.dataset_strs(group, "metric_order", &names)?;
+        let metrics = self.group(group, "metrics")?;
+        for metric in samples.metrics {
             let ds = metrics
                 .new_dataset::<f64>()
                 .shape(())
                 .create(metric.name.as_str())
                 .and_then(|ds| ds.write_scalar(&metric.value).map(|()| ds))
-                .map_err(self.h5(format!("writing dataset /metrics/{}", metric.name)))?;
+                .map_err(self.h5(format!(
+                    "writing dataset {} in {}",
+                    metric.name,
+                    metrics.name()
+                )))?;
             self.attr_str(&ds, "units", &metric.unit)?;
         }
 
-        let criteria = self.group(root, "criteria")?;
-        let list = &record.criteria;
+        let criteria = self.group(group, "criteria")?;
+        let list = samples.criteria;
         let names: Vec<&str> = list.iter().map(|c| c.name.as_str()).collect();
         let values: Vec<f64> = list.iter().map(|c| c.value).collect();
         let lower: Vec<f64> = list.iter().map(|c| c.lower.unwrap_or(f64::NAN)).collect();
@@ -154,80 +401,91 @@ impl Out {
         self.dataset_f64(&criteria, "value", &values)?;
         self.dataset_f64(&criteria, "lower", &lower)?;
         self.dataset_f64(&criteria, "upper", &upper)?;
-        let ds = criteria
-            .new_dataset_builder()
-            .with_data(&passed[..])
-            .create("passed")
-            .map_err(self.h5("writing dataset /criteria/passed"))?;
-        self.attr_str(&ds, "description", "1 = passed, 0 = failed")?;
-
-        self.write_provenance(root, prov)
-    }
-
-    fn write_provenance(&self, root: &Group, prov: &Provenance) -> Result<(), ResultsError> {
-        let group = self.group(root, "provenance")?;
-        self.attr_str(&group, "script_path", &prov.script_path)?;
-        self.attr_str(&group, "vehicle_path", &prov.vehicle_path)?;
-        self.attr_str(&group, "solver", &prov.solver)?;
-        self.attr_f64(&group, "rtol", prov.rtol)?;
-        self.attr_f64(&group, "atol", prov.atol)?;
-        self.attr_f64(&group, "fixed_step_s", prov.fixed_step_s)?;
-        self.attr_f64(&group, "sample_rate_hz", prov.sample_rate_hz)?;
-        self.attr_f64(&group, "tick_rate_hz", prov.tick_rate_hz)?;
-        self.dataset_str(&group, "script_text", &prov.script_text)?;
-        self.dataset_str(&group, "vehicle_toml", &prov.vehicle_toml)?;
-        let overrides: Vec<&str> = prov.overrides.iter().map(String::as_str).collect();
-        self.dataset_strs(&group, "overrides", &overrides)?;
-        let keys: Vec<&str> = prov.extra.iter().map(|(k, _)| k.as_str()).collect();
-        let values: Vec<&str> = prov.extra.iter().map(|(_, v)| v.as_str()).collect();
-        self.dataset_strs(&group, "extra_keys", &keys)?;
-        self.dataset_strs(&group, "extra_values", &values)?;
+        let ds = self.dataset_1d(&criteria, "passed", &passed)?;
+        if full {
+            self.attr_str(&ds, "description", "1 = passed, 0 = failed")?;
+        }
         Ok(())
     }
 
-    fn group(&self, parent: &Group, name: &str) -> Result<Group, ResultsError> {
-        parent
-            .create_group(name)
-            .map_err(self.h5(format!("creating group /{name}")))
+    /// Creates group `name` in `parent`, with this context's time tracking.
+    pub(crate) fn group(&self, parent: &Group, name: &str) -> Result<Group, H5Error> {
+        let mut builder = parent.create_group_builder();
+        if self.track_times == TrackTimes::Off {
+            builder = builder.obj_track_times(false);
+        }
+        builder
+            .create(name)
+            .map_err(self.h5(format!("creating group {name} in {}", parent.name())))
     }
 
-    fn unicode(&self, what: &str, text: &str) -> Result<VarLenUnicode, ResultsError> {
+    fn unicode(&self, what: &str, text: &str) -> Result<VarLenUnicode, H5Error> {
         VarLenUnicode::from_str(text)
             .map_err(|_| self.invalid(format!("{what} contains a NUL character")))
     }
 
-    fn attr_str(&self, loc: &Location, name: &str, text: &str) -> Result<(), ResultsError> {
+    fn unicodes(&self, what: &str, items: &[&str]) -> Result<Vec<VarLenUnicode>, H5Error> {
+        items.iter().map(|text| self.unicode(what, text)).collect()
+    }
+
+    /// Writes the text scalar attribute `name` on `loc`.
+    pub(crate) fn attr_str(&self, loc: &Location, name: &str, text: &str) -> Result<(), H5Error> {
         let what = format!("attribute {name} of {}", loc.name());
         let value = self.unicode(&what, text)?;
-        loc.new_attr::<VarLenUnicode>()
-            .shape(())
+        self.attr_scalar(loc, name, &value)
+    }
+
+    /// Writes the text-list attribute `name` on `loc`.
+    pub(crate) fn attr_strs(
+        &self,
+        loc: &Location,
+        name: &str,
+        items: &[&str],
+    ) -> Result<(), H5Error> {
+        let what = format!("attribute {name} of {}", loc.name());
+        let values = self.unicodes(&what, items)?;
+        loc.new_attr_builder()
+            .with_data(&values[..])
             .create(name)
-            .and_then(|attr| attr.write_scalar(&value))
+            .map(|_| ())
             .map_err(self.h5(format!("writing {what}")))
     }
 
-    fn attr_f64(&self, loc: &Location, name: &str, value: f64) -> Result<(), ResultsError> {
-        loc.new_attr::<f64>()
+    /// Writes the f64 scalar attribute `name` on `loc`.
+    pub(crate) fn attr_f64(&self, loc: &Location, name: &str, value: f64) -> Result<(), H5Error> {
+        self.attr_scalar(loc, name, &value)
+    }
+
+    /// Writes the i64 scalar attribute `name` on `loc`.
+    pub(crate) fn attr_i64(&self, loc: &Location, name: &str, value: i64) -> Result<(), H5Error> {
+        self.attr_scalar(loc, name, &value)
+    }
+
+    fn attr_scalar<T: H5Type>(&self, loc: &Location, name: &str, value: &T) -> Result<(), H5Error> {
+        loc.new_attr::<T>()
             .shape(())
             .create(name)
-            .and_then(|attr| attr.write_scalar(&value))
+            .and_then(|attr| attr.write_scalar(value))
             .map_err(self.h5(format!("writing attribute {name} of {}", loc.name())))
     }
 
-    fn attr_i64(&self, loc: &Location, name: &str, value: i64) -> Result<(), ResultsError> {
-        loc.new_attr::<i64>()
-            .shape(())
-            .create(name)
-            .and_then(|attr| attr.write_scalar(&value))
-            .map_err(self.h5(format!("writing attribute {name} of {}", loc.name())))
-    }
-
-    fn dataset_f64(
+    /// Writes the one-dimensional f64 dataset `name` in `group`.
+    pub(crate) fn dataset_f64(
         &self,
         group: &Group,
         name: &str,
         data: &[f64],
-    ) -> Result<Dataset, ResultsError> {
+    ) -> Result<Dataset, H5Error> {
+        self.dataset_1d(group, name, data)
+    }
+
+    /// Writes the one-dimensional dataset `name` in `group` (numbers or text).
+    pub(crate) fn dataset_1d<T: H5Type>(
+        &self,
+        group: &Group,
+        name: &str,
+        data: &[T],
+    ) -> Result<Dataset, H5Error> {
         group
             .new_dataset_builder()
             .with_data(data)
@@ -235,7 +493,8 @@ impl Out {
             .map_err(self.h5(format!("writing dataset {name} in {}", group.name())))
     }
 
-    fn dataset_str(&self, group: &Group, name: &str, text: &str) -> Result<(), ResultsError> {
+    /// Writes the text scalar dataset `name` in `group`.
+    pub(crate) fn dataset_str(&self, group: &Group, name: &str, text: &str) -> Result<(), H5Error> {
         let what = format!("dataset {name} in {}", group.name());
         let value = self.unicode(&what, text)?;
         group
@@ -246,69 +505,35 @@ impl Out {
             .map_err(self.h5(format!("writing {what}")))
     }
 
-    fn dataset_strs(&self, group: &Group, name: &str, items: &[&str]) -> Result<(), ResultsError> {
+    /// Writes the one-dimensional text dataset `name` in `group`.
+    pub(crate) fn dataset_strs(
+        &self,
+        group: &Group,
+        name: &str,
+        items: &[&str],
+    ) -> Result<(), H5Error> {
         let what = format!("dataset {name} in {}", group.name());
-        let values = items
-            .iter()
-            .map(|text| self.unicode(&what, text))
-            .collect::<Result<Vec<_>, _>>()?;
-        group
-            .new_dataset_builder()
-            .with_data(&values[..])
-            .create(name)
-            .map(|_| ())
-            .map_err(self.h5(format!("writing {what}")))
+        let values = self.unicodes(&what, items)?;
+        self.dataset_1d(group, name, &values).map(|_| ())
     }
 
     // ----- reading -------------------------------------------------------
 
-    fn check_format(&self, file: &File) -> Result<(), ResultsError> {
-        let not_ours = |found: String| ResultsError::NotResultsFile {
-            path: self.path.clone(),
-            found,
-        };
-        let attr = file
-            .attr("format")
-            .map_err(|_| not_ours("no `format` attribute on the root group".to_string()))?;
-        let format: VarLenUnicode = attr
-            .read_scalar()
-            .map_err(|_| not_ours("the `format` attribute is not a text scalar".to_string()))?;
-        if format.as_str() != FORMAT_NAME {
-            return Err(not_ours(format!("format is {:?}", format.as_str())));
-        }
-        let version = self.read_attr_i64(file, "format_version")?;
-        if version != FORMAT_VERSION {
-            return Err(ResultsError::UnsupportedVersion {
-                path: self.path.clone(),
-                found: version,
-                supported: FORMAT_VERSION,
-            });
-        }
-        Ok(())
-    }
+    /// Reads the block written by [`H5Context::write_samples`] from `group`.
+    pub(crate) fn read_samples(&self, group: &Group) -> Result<SamplesRead, H5Error> {
+        let time_ds = self.open_dataset(group, "time")?;
+        let time = self.read_1d_from(&time_ds)?;
 
-    fn read_all(&self, file: &File) -> Result<RunRecord, ResultsError> {
-        let root: &Group = file;
-        let status = match self.read_attr_str(root, "status")?.as_str() {
-            "completed" => RunStatus::Completed,
-            "failed" => RunStatus::Failed {
-                message: self.read_attr_str(root, "status_message")?,
-                time_s: self.read_attr_f64(root, "failure_time_s")?,
-            },
-            other => return Err(self.invalid(format!("unknown status {other:?}"))),
-        };
-
-        let time = self.read_f64s(root, "time")?;
-
-        let channels_group = self.open_group(root, "channels")?;
+        let channels_group = self.open_group(group, "channels")?;
         let mut channels = Vec::new();
-        for name in self.read_strs(root, "channel_order")? {
+        for name in self.read_strs(group, "channel_order")? {
             let ds = self.open_dataset(&channels_group, &name)?;
-            let data = self.read_f64s_from(&ds)?;
+            let data = self.read_1d_from(&ds)?;
             if data.len() != time.len() {
                 return Err(self.invalid(format!(
-                    "channel `{name}` has {} samples but /time has {}",
+                    "channel `{name}` has {} samples but {} has {}",
                     data.len(),
+                    time_ds.name(),
                     time.len()
                 )));
             }
@@ -320,9 +545,9 @@ impl Out {
             });
         }
 
-        let metrics_group = self.open_group(root, "metrics")?;
+        let metrics_group = self.open_group(group, "metrics")?;
         let mut metrics = Vec::new();
-        for name in self.read_strs(root, "metric_order")? {
+        for name in self.read_strs(group, "metric_order")? {
             let ds = self.open_dataset(&metrics_group, &name)?;
             let value: f64 = ds
                 .read_scalar()
@@ -334,21 +559,18 @@ impl Out {
             });
         }
 
-        let criteria_group = self.open_group(root, "criteria")?;
+        let criteria_group = self.open_group(group, "criteria")?;
         let names = self.read_strs(&criteria_group, "name")?;
         let values = self.read_f64s(&criteria_group, "value")?;
         let lower = self.read_f64s(&criteria_group, "lower")?;
         let upper = self.read_f64s(&criteria_group, "upper")?;
-        let passed: Vec<u8> = self
-            .open_dataset(&criteria_group, "passed")?
-            .read_raw()
-            .map_err(self.h5("reading dataset /criteria/passed"))?;
+        let passed: Vec<u8> = self.read_1d(&criteria_group, "passed")?;
         let n = names.len();
-        if [values.len(), lower.len(), upper.len(), passed.len()]
-            .iter()
-            .any(|&len| len != n)
-        {
-            return Err(self.invalid("the datasets in /criteria differ in length"));
+        if [values.len(), lower.len(), upper.len(), passed.len()] != [n; 4] {
+            return Err(self.invalid(format!(
+                "the datasets in {} differ in length",
+                criteria_group.name()
+            )));
         }
         let limit = |x: f64| if x.is_nan() { None } else { Some(x) };
         let criteria = (0..n)
@@ -360,102 +582,93 @@ impl Out {
                 passed: passed[i] != 0,
             })
             .collect();
-
-        let provenance = self.read_provenance(root)?;
-        Ok(RunRecord {
+        Ok(SamplesRead {
             time,
             channels,
-            provenance,
-            status,
             metrics,
             criteria,
         })
     }
 
-    fn read_provenance(&self, root: &Group) -> Result<Provenance, ResultsError> {
-        let group = self.open_group(root, "provenance")?;
-        let keys = self.read_strs(&group, "extra_keys")?;
-        let values = self.read_strs(&group, "extra_values")?;
-        if keys.len() != values.len() {
-            return Err(self.invalid("/provenance/extra_keys and extra_values differ in length"));
-        }
-        Ok(Provenance {
-            yawdyn_version: self.read_attr_str(root, "yawdyn_version")?,
-            created_utc: self.read_attr_str(root, "created_utc")?,
-            script_path: self.read_attr_str(&group, "script_path")?,
-            script_text: self.read_str(&group, "script_text")?,
-            vehicle_path: self.read_attr_str(&group, "vehicle_path")?,
-            vehicle_toml: self.read_str(&group, "vehicle_toml")?,
-            overrides: self.read_strs(&group, "overrides")?,
-            solver: self.read_attr_str(&group, "solver")?,
-            rtol: self.read_attr_f64(&group, "rtol")?,
-            atol: self.read_attr_f64(&group, "atol")?,
-            fixed_step_s: self.read_attr_f64(&group, "fixed_step_s")?,
-            sample_rate_hz: self.read_attr_f64(&group, "sample_rate_hz")?,
-            tick_rate_hz: self.read_attr_f64(&group, "tick_rate_hz")?,
-            extra: keys.into_iter().zip(values).collect(),
-        })
-    }
-
-    fn open_group(&self, parent: &Group, name: &str) -> Result<Group, ResultsError> {
+    /// Opens group `name` in `parent`.
+    pub(crate) fn open_group(&self, parent: &Group, name: &str) -> Result<Group, H5Error> {
         parent
             .group(name)
             .map_err(self.h5(format!("opening group {name} in {}", parent.name())))
     }
 
-    fn open_dataset(&self, group: &Group, name: &str) -> Result<Dataset, ResultsError> {
+    /// Opens dataset `name` in `group`.
+    pub(crate) fn open_dataset(&self, group: &Group, name: &str) -> Result<Dataset, H5Error> {
         group
             .dataset(name)
             .map_err(self.h5(format!("opening dataset {name} in {}", group.name())))
     }
 
-    fn read_attr_str(&self, loc: &Location, name: &str) -> Result<String, ResultsError> {
-        loc.attr(name)
-            .and_then(|attr| attr.read_scalar::<VarLenUnicode>())
+    /// Reads the text scalar attribute `name` of `loc`.
+    pub(crate) fn read_attr_str(&self, loc: &Location, name: &str) -> Result<String, H5Error> {
+        self.read_attr_scalar::<VarLenUnicode>(loc, name, "text")
             .map(|text| text.as_str().to_string())
-            .map_err(self.h5(format!("reading text attribute {name} of {}", loc.name())))
     }
 
-    fn read_attr_f64(&self, loc: &Location, name: &str) -> Result<f64, ResultsError> {
+    /// Reads the f64 scalar attribute `name` of `loc`.
+    pub(crate) fn read_attr_f64(&self, loc: &Location, name: &str) -> Result<f64, H5Error> {
+        self.read_attr_scalar(loc, name, "number")
+    }
+
+    /// Reads the i64 scalar attribute `name` of `loc`.
+    pub(crate) fn read_attr_i64(&self, loc: &Location, name: &str) -> Result<i64, H5Error> {
+        self.read_attr_scalar(loc, name, "integer")
+    }
+
+    fn read_attr_scalar<T: H5Type>(
+        &self,
+        loc: &Location,
+        name: &str,
+        kind: &str,
+    ) -> Result<T, H5Error> {
         loc.attr(name)
-            .and_then(|attr| attr.read_scalar::<f64>())
-            .map_err(self.h5(format!("reading number attribute {name} of {}", loc.name())))
+            .and_then(|attr| attr.read_scalar::<T>())
+            .map_err(self.h5(format!("reading {kind} attribute {name} of {}", loc.name())))
     }
 
-    fn read_attr_i64(&self, loc: &Location, name: &str) -> Result<i64, ResultsError> {
-        loc.attr(name)
-            .and_then(|attr| attr.read_scalar::<i64>())
-            .map_err(self.h5(format!(
-                "reading integer attribute {name} of {}",
-                loc.name()
-            )))
+    /// Reads the one-dimensional f64 dataset `name` in `group`.
+    pub(crate) fn read_f64s(&self, group: &Group, name: &str) -> Result<Vec<f64>, H5Error> {
+        self.read_1d(group, name)
     }
 
-    fn read_f64s(&self, group: &Group, name: &str) -> Result<Vec<f64>, ResultsError> {
+    /// Reads the one-dimensional numeric dataset `name` in `group`.
+    pub(crate) fn read_1d<T: H5Type>(&self, group: &Group, name: &str) -> Result<Vec<T>, H5Error> {
         let ds = self.open_dataset(group, name)?;
-        self.read_f64s_from(&ds)
+        self.read_1d_from(&ds)
     }
 
-    fn read_f64s_from(&self, ds: &Dataset) -> Result<Vec<f64>, ResultsError> {
-        if ds.ndim() != 1 {
-            return Err(self.invalid(format!("{} is not one-dimensional", ds.name())));
-        }
+    /// Reads the numbers of the one-dimensional dataset `ds`.
+    pub(crate) fn read_1d_from<T: H5Type>(&self, ds: &Dataset) -> Result<Vec<T>, H5Error> {
+        self.check_1d(ds)?;
         ds.read_raw()
             .map_err(self.h5(format!("reading numbers from {}", ds.name())))
     }
 
-    fn read_str(&self, group: &Group, name: &str) -> Result<String, ResultsError> {
+    fn check_1d(&self, ds: &Dataset) -> Result<(), H5Error> {
+        if ds.ndim() == 1 {
+            Ok(())
+        } else {
+            Err(self.invalid(format!("{} is not one-dimensional", ds.name())))
+        }
+    }
+
+    /// Reads the text scalar dataset `name` in `group`.
+    pub(crate) fn read_str(&self, group: &Group, name: &str) -> Result<String, H5Error> {
         let ds = self.open_dataset(group, name)?;
         ds.read_scalar::<VarLenUnicode>()
             .map(|text| text.as_str().to_string())
             .map_err(self.h5(format!("reading text from {}", ds.name())))
     }
 
-    fn read_strs(&self, group: &Group, name: &str) -> Result<Vec<String>, ResultsError> {
+    /// Reads the one-dimensional text dataset `name` in `group`.
+    pub(crate) fn read_strs(&self, group: &Group, name: &str) -> Result<Vec<String>, H5Error> {
         let ds = self.open_dataset(group, name)?;
-        if ds.ndim() != 1 {
-            return Err(self.invalid(format!("{} is not one-dimensional", ds.name())));
-        }
+        self.check_1d(&ds)?;
         ds.read_raw::<VarLenUnicode>()
             .map(|items| items.iter().map(|t| t.as_str().to_string()).collect())
             .map_err(self.h5(format!("reading text list from {}", ds.name())))

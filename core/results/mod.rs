@@ -54,7 +54,7 @@
 mod atomic;
 mod csv;
 mod error;
-mod h5;
+pub(crate) mod h5;
 mod record;
 mod summary;
 

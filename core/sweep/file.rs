@@ -2,13 +2,17 @@
 //! [`crate::sweep`]). One writer serves both `sweep` and `merge`, so a merged
 //! file is built by exactly the same calls, in the same order, as an
 //! unsharded one.
+//!
+//! Each case group holds the sample block of a results file (`time`,
+//! channels, metrics, criteria); it is written and read by the HDF5 layer of
+//! [`crate::results`] (`H5Context::write_samples`/`read_samples`), with object
+//! time tracking off, and its errors are converted into [`SweepError`]s.
 
 use std::path::{Path, PathBuf};
-use std::str::FromStr;
 
-use hdf5::types::VarLenUnicode;
-use hdf5::{File, Group, Location};
+use hdf5::{File, Group};
 
+use crate::results::h5::{Descriptions, H5Context, H5Error, Samples, TrackTimes, str_refs};
 use crate::results::{Channel, Criterion, Metric};
 
 use super::grid::{Grid, Shard, VaryAxis};
@@ -161,46 +165,46 @@ impl SweepFile {
 
     /// Reads case `index` (global index) with all its stored channels.
     pub fn read_case(&self, index: usize) -> Result<SweepCase, SweepError> {
-        let ctx = Ctx::new(&self.path);
-        let file = unlocked()
-            .open(&self.path)
-            .map_err(ctx.h5("opening the file as HDF5"))?;
+        let ctx = H5Context::new(&self.path, TrackTimes::Off);
+        let file = ctx.open_file()?;
         let cases = ctx.open_group(&file, "cases")?;
         let name = case_name(index, self.case_total);
         let group = cases
             .group(&name)
             .map_err(|_| ctx.invalid(format!("no case {index} in this file (/cases/{name})")))?;
-        ctx.read_case(&group)
+        read_case(&ctx, &group)
     }
 }
 
 /// Reads a sweep file's spec and summary.
 pub fn read_sweep(path: &Path) -> Result<SweepFile, SweepError> {
-    let ctx = Ctx::new(path);
-    let file = unlocked()
-        .open(path)
-        .map_err(ctx.h5("opening the file as HDF5"))?;
+    let ctx = H5Context::new(path, TrackTimes::Off);
+    let file = ctx.open_file()?;
     let format = ctx
         .read_attr_str(&file, "format")
         .map_err(|_| ctx.invalid("not a yawdyn sweep file (no `format` attribute)"))?;
     if format != FORMAT_NAME {
-        return Err(ctx.invalid(format!(
-            "not a yawdyn sweep file (format is {format:?}, expected {FORMAT_NAME:?})"
-        )));
+        return Err(ctx
+            .invalid(format!(
+                "not a yawdyn sweep file (format is {format:?}, expected {FORMAT_NAME:?})"
+            ))
+            .into());
     }
     let version = ctx.read_attr_i64(&file, "format_version")?;
     if version != FORMAT_VERSION {
         return Err(ctx.invalid(format!(
             "sweep format version {version} is not supported (this yawdyn reads {FORMAT_VERSION})"
-        )));
+        )).into());
     }
     let spec_group = ctx.open_group(&file, "spec")?;
     let keys = ctx.read_strs(&spec_group, "vary_keys")?;
     let start = ctx.read_f64s(&spec_group, "vary_start")?;
     let stop = ctx.read_f64s(&spec_group, "vary_stop")?;
-    let count = ctx.read_i64s(&spec_group, "vary_count")?;
+    let count = ctx.read_1d::<i64>(&spec_group, "vary_count")?;
     if [start.len(), stop.len(), count.len()] != [keys.len(); 3] {
-        return Err(ctx.invalid("the /spec/vary_* datasets differ in length"));
+        return Err(ctx
+            .invalid("the /spec/vary_* datasets differ in length")
+            .into());
     }
     let mut axes = Vec::new();
     for i in 0..keys.len() {
@@ -245,13 +249,15 @@ pub fn read_sweep(path: &Path) -> Result<SweepFile, SweepError> {
         count: as_usize(ctx.read_attr_i64(&file, "shard_count")?, "shard_count")?,
     };
     if shard.index == 0 || shard.index > shard.count {
-        return Err(ctx.invalid(format!("impossible shard {shard}")));
+        return Err(ctx.invalid(format!("impossible shard {shard}")).into());
     }
     let case_total = as_usize(ctx.read_attr_i64(&file, "case_total")?, "case_total")?;
     if case_total != spec.grid.len() {
-        return Err(ctx.invalid("case_total does not match the vary spec"));
+        return Err(ctx
+            .invalid("case_total does not match the vary spec")
+            .into());
     }
-    let summary = ctx.read_summary(&file, &spec.grid)?;
+    let summary = read_summary(&ctx, &file, &spec.grid)?;
     Ok(SweepFile {
         path: path.to_path_buf(),
         created_utc: ctx.read_attr_str(&file, "created_utc")?,
@@ -270,18 +276,10 @@ pub fn case_name(index: usize, total: usize) -> String {
     format!("{index:0width$}")
 }
 
-/// HDF5 files without `flock` locking (see `results` for why: the files are
-/// written under a private name and renamed whole).
-fn unlocked() -> hdf5::file::FileBuilder {
-    let mut builder = File::with_options();
-    builder.with_fapl(|fapl| fapl.file_locking(false));
-    builder
-}
-
 /// Streams cases into a new sweep file under a temporary name; [`SweepWriter::finish`]
 /// writes the summary and renames the file into place.
 pub(crate) struct SweepWriter {
-    ctx: Ctx,
+    ctx: H5Context,
     temp: PathBuf,
     file: Option<File>,
     cases: Option<Group>,
@@ -304,7 +302,7 @@ impl SweepWriter {
         spec: &SweepSpec,
         stamp: &Stamp<'_>,
     ) -> Result<SweepWriter, SweepError> {
-        let ctx = Ctx::new(path);
+        let ctx = H5Context::new(path, TrackTimes::Off);
         let dir = match path.parent() {
             Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
             _ => PathBuf::from("."),
@@ -322,11 +320,7 @@ impl SweepWriter {
             name.to_string_lossy(),
             std::process::id()
         ));
-        let mut builder = unlocked();
-        builder.with_fcpl(|fcpl| fcpl.obj_track_times(false));
-        let file = builder
-            .create(&temp)
-            .map_err(ctx.h5("creating the HDF5 file"))?;
+        let file = ctx.create_file(&temp)?;
         let total = spec.grid.len();
         let range = stamp.shard.range(total);
         let root: &Group = &file;
@@ -348,7 +342,7 @@ impl SweepWriter {
         let sg = ctx.group(root, "spec")?;
         ctx.dataset_str(&sg, "script_text", &spec.script_text)?;
         let base: Vec<String> = spec.base_overrides.iter().map(|o| o.to_text()).collect();
-        ctx.dataset_strs(&sg, "base_overrides", &refs(&base))?;
+        ctx.dataset_strs(&sg, "base_overrides", &str_refs(&base))?;
         ctx.dataset_strs(&sg, "vary_keys", &key_refs)?;
         let axes = &spec.grid.axes;
         ctx.dataset_f64(
@@ -362,12 +356,9 @@ impl SweepWriter {
             &axes.iter().map(|a| a.stop).collect::<Vec<_>>(),
         )?;
         let counts: Vec<i64> = axes.iter().map(|a| a.count as i64).collect();
-        sg.new_dataset_builder()
-            .with_data(&counts[..])
-            .create("vary_count")
-            .map_err(ctx.h5("writing /spec/vary_count"))?;
+        ctx.dataset_1d(&sg, "vary_count", &counts)?;
         let channels = spec.channels.clone().unwrap_or_default();
-        ctx.dataset_strs(&sg, "channels", &refs(&channels))?;
+        ctx.dataset_strs(&sg, "channels", &str_refs(&channels))?;
         ctx.attr_i64(&sg, "channels_selected", i64::from(spec.channels.is_some()))?;
         let cases = ctx.group(root, "cases")?;
         Ok(SweepWriter {
@@ -385,7 +376,7 @@ impl SweepWriter {
     pub(crate) fn write_case(&mut self, case: &SweepCase) -> Result<(), SweepError> {
         let ctx = &self.ctx;
         let Some(cases) = &self.cases else {
-            return Err(ctx.invalid("writer already finished"));
+            return Err(ctx.invalid("writer already finished").into());
         };
         let g = ctx.group(cases, &case_name(case.index, self.total))?;
         ctx.attr_i64(&g, "case_index", case.index as i64)?;
@@ -393,47 +384,14 @@ impl SweepWriter {
         ctx.attr_str(&g, "message", &case.message)?;
         ctx.attr_f64(&g, "failure_time_s", case.failure_time_s)?;
         ctx.dataset_f64(&g, "parameters", &case.parameters)?;
-        ctx.dataset_strs(&g, "overrides", &refs(&case.overrides))?;
-        let time = ctx.dataset_f64(&g, "time", &case.time)?;
-        ctx.attr_str(&time, "units", "s")?;
-        let names: Vec<&str> = case.channels.iter().map(|c| c.name.as_str()).collect();
-        ctx.dataset_strs(&g, "channel_order", &names)?;
-        let cg = ctx.group(&g, "channels")?;
-        for channel in &case.channels {
-            let ds = ctx.dataset_f64(&cg, &channel.name, &channel.data)?;
-            ctx.attr_str(&ds, "units", &channel.unit)?;
-            ctx.attr_str(&ds, "description", &channel.description)?;
-        }
-        let names: Vec<&str> = case.metrics.iter().map(|m| m.name.as_str()).collect();
-        ctx.dataset_strs(&g, "metric_order", &names)?;
-        let mg = ctx.group(&g, "metrics")?;
-        for metric in &case.metrics {
-            let ds = mg
-                .new_dataset::<f64>()
-                .shape(())
-                .create(metric.name.as_str())
-                .and_then(|ds| ds.write_scalar(&metric.value).map(|()| ds))
-                .map_err(ctx.h5(format!("writing metric {}", metric.name)))?;
-            ctx.attr_str(&ds, "units", &metric.unit)?;
-        }
-        let kg = ctx.group(&g, "criteria")?;
-        let list = &case.criteria;
-        let names: Vec<&str> = list.iter().map(|c| c.name.as_str()).collect();
-        ctx.dataset_strs(&kg, "name", &names)?;
-        ctx.dataset_f64(
-            &kg,
-            "value",
-            &list.iter().map(|c| c.value).collect::<Vec<_>>(),
-        )?;
-        let lower: Vec<f64> = list.iter().map(|c| c.lower.unwrap_or(f64::NAN)).collect();
-        let upper: Vec<f64> = list.iter().map(|c| c.upper.unwrap_or(f64::NAN)).collect();
-        ctx.dataset_f64(&kg, "lower", &lower)?;
-        ctx.dataset_f64(&kg, "upper", &upper)?;
-        let passed: Vec<u8> = list.iter().map(|c| u8::from(c.passed)).collect();
-        kg.new_dataset_builder()
-            .with_data(&passed[..])
-            .create("passed")
-            .map_err(ctx.h5("writing criteria/passed"))?;
+        ctx.dataset_strs(&g, "overrides", &str_refs(&case.overrides))?;
+        let samples = Samples {
+            time: &case.time,
+            channels: &case.channels,
+            metrics: &case.metrics,
+            criteria: &case.criteria,
+        };
+        ctx.write_samples(&g, &samples, Descriptions::ChannelsOnly)?;
         self.summary.push(&self.keys, case);
         Ok(())
     }
@@ -461,14 +419,11 @@ impl SweepWriter {
         let s = &self.summary;
         let g = ctx.group(&file, "summary")?;
         let index: Vec<i64> = s.case_index.iter().map(|&i| i as i64).collect();
-        g.new_dataset_builder()
-            .with_data(&index[..])
-            .create("case_index")
-            .map_err(ctx.h5("writing /summary/case_index"))?;
+        ctx.dataset_1d(&g, "case_index", &index)?;
         let status: Vec<&str> = s.status.iter().map(|st| st.name()).collect();
         ctx.dataset_strs(&g, "status", &status)?;
-        ctx.dataset_strs(&g, "message", &refs(&s.message))?;
-        ctx.dataset_strs(&g, "parameter_order", &refs(&self.keys))?;
+        ctx.dataset_strs(&g, "message", &str_refs(&s.message))?;
+        ctx.dataset_strs(&g, "parameter_order", &str_refs(&self.keys))?;
         let pg = ctx.group(&g, "parameters")?;
         for (key, values) in &s.parameters {
             ctx.dataset_f64(&pg, key, values)?;
@@ -503,316 +458,99 @@ impl Drop for SweepWriter {
     }
 }
 
-fn refs(items: &[String]) -> Vec<&str> {
-    items.iter().map(String::as_str).collect()
+impl From<H5Error> for SweepError {
+    fn from(e: H5Error) -> SweepError {
+        match e {
+            H5Error::Hdf5 {
+                path,
+                action,
+                source,
+            } => SweepError::Hdf5 {
+                path,
+                action,
+                source,
+            },
+            H5Error::Invalid { path, reason } => SweepError::Format { path, reason },
+        }
+    }
 }
 
-/// Context for one file: turns HDF5 errors into [`SweepError`]s naming it.
-struct Ctx {
-    path: PathBuf,
+/// The case status named `text` in the file.
+fn status(ctx: &H5Context, text: &str) -> Result<CaseStatus, SweepError> {
+    CaseStatus::from_name(text)
+        .ok_or_else(|| ctx.invalid(format!("unknown status {text:?}")).into())
 }
 
-impl Ctx {
-    fn new(path: &Path) -> Ctx {
-        Ctx {
-            path: path.to_path_buf(),
-        }
-    }
-
-    fn h5(&self, action: impl Into<String>) -> impl FnOnce(hdf5::Error) -> SweepError {
-        let path = self.path.clone();
-        let action = action.into();
-        move |source| SweepError::Hdf5 {
-            path,
-            action,
-            source,
-        }
-    }
-
-    fn invalid(&self, reason: impl Into<String>) -> SweepError {
-        SweepError::Format {
-            path: self.path.clone(),
-            reason: reason.into(),
-        }
-    }
-
-    fn unicode(&self, what: &str, text: &str) -> Result<VarLenUnicode, SweepError> {
-        VarLenUnicode::from_str(text)
-            .map_err(|_| self.invalid(format!("{what} contains a NUL character")))
-    }
-
-    fn group(&self, parent: &Group, name: &str) -> Result<Group, SweepError> {
-        parent
-            .create_group_builder()
-            .obj_track_times(false)
-            .create(name)
-            .map_err(self.h5(format!("creating group {name} in {}", parent.name())))
-    }
-
-    fn attr_str(&self, loc: &Location, name: &str, text: &str) -> Result<(), SweepError> {
-        let what = format!("attribute {name} of {}", loc.name());
-        let value = self.unicode(&what, text)?;
-        loc.new_attr::<VarLenUnicode>()
-            .shape(())
-            .create(name)
-            .and_then(|attr| attr.write_scalar(&value))
-            .map_err(self.h5(format!("writing {what}")))
-    }
-
-    fn attr_strs(&self, loc: &Location, name: &str, items: &[&str]) -> Result<(), SweepError> {
-        let what = format!("attribute {name} of {}", loc.name());
-        let values = items
-            .iter()
-            .map(|t| self.unicode(&what, t))
-            .collect::<Result<Vec<_>, _>>()?;
-        loc.new_attr_builder()
-            .with_data(&values[..])
-            .create(name)
-            .map(|_| ())
-            .map_err(self.h5(format!("writing {what}")))
-    }
-
-    fn attr_f64(&self, loc: &Location, name: &str, value: f64) -> Result<(), SweepError> {
-        loc.new_attr::<f64>()
-            .shape(())
-            .create(name)
-            .and_then(|attr| attr.write_scalar(&value))
-            .map_err(self.h5(format!("writing attribute {name} of {}", loc.name())))
-    }
-
-    fn attr_i64(&self, loc: &Location, name: &str, value: i64) -> Result<(), SweepError> {
-        loc.new_attr::<i64>()
-            .shape(())
-            .create(name)
-            .and_then(|attr| attr.write_scalar(&value))
-            .map_err(self.h5(format!("writing attribute {name} of {}", loc.name())))
-    }
-
-    fn dataset_f64(
-        &self,
-        group: &Group,
-        name: &str,
-        data: &[f64],
-    ) -> Result<hdf5::Dataset, SweepError> {
-        group
-            .new_dataset_builder()
-            .with_data(data)
-            .create(name)
-            .map_err(self.h5(format!("writing dataset {name} in {}", group.name())))
-    }
-
-    fn dataset_str(&self, group: &Group, name: &str, text: &str) -> Result<(), SweepError> {
-        let what = format!("dataset {name} in {}", group.name());
-        let value = self.unicode(&what, text)?;
-        group
-            .new_dataset::<VarLenUnicode>()
-            .shape(())
-            .create(name)
-            .and_then(|ds| ds.write_scalar(&value))
-            .map_err(self.h5(format!("writing {what}")))
-    }
-
-    fn dataset_strs(&self, group: &Group, name: &str, items: &[&str]) -> Result<(), SweepError> {
-        let what = format!("dataset {name} in {}", group.name());
-        let values = items
-            .iter()
-            .map(|t| self.unicode(&what, t))
-            .collect::<Result<Vec<_>, _>>()?;
-        group
-            .new_dataset_builder()
-            .with_data(&values[..])
-            .create(name)
-            .map(|_| ())
-            .map_err(self.h5(format!("writing {what}")))
-    }
-
-    // ----- reading -------------------------------------------------------
-
-    fn open_group(&self, parent: &Group, name: &str) -> Result<Group, SweepError> {
-        parent
-            .group(name)
-            .map_err(self.h5(format!("opening group {name} in {}", parent.name())))
-    }
-
-    fn open_dataset(&self, group: &Group, name: &str) -> Result<hdf5::Dataset, SweepError> {
-        group
-            .dataset(name)
-            .map_err(self.h5(format!("opening dataset {name} in {}", group.name())))
-    }
-
-    fn read_attr_str(&self, loc: &Location, name: &str) -> Result<String, SweepError> {
-        loc.attr(name)
-            .and_then(|a| a.read_scalar::<VarLenUnicode>())
-            .map(|v| v.as_str().to_string())
-            .map_err(self.h5(format!("reading attribute {name} of {}", loc.name())))
-    }
-
-    fn read_attr_f64(&self, loc: &Location, name: &str) -> Result<f64, SweepError> {
-        loc.attr(name)
-            .and_then(|a| a.read_scalar::<f64>())
-            .map_err(self.h5(format!("reading attribute {name} of {}", loc.name())))
-    }
-
-    fn read_attr_i64(&self, loc: &Location, name: &str) -> Result<i64, SweepError> {
-        loc.attr(name)
-            .and_then(|a| a.read_scalar::<i64>())
-            .map_err(self.h5(format!("reading attribute {name} of {}", loc.name())))
-    }
-
-    fn read_f64s(&self, group: &Group, name: &str) -> Result<Vec<f64>, SweepError> {
-        self.open_dataset(group, name)?
-            .read_raw()
-            .map_err(self.h5(format!("reading dataset {name} in {}", group.name())))
-    }
-
-    fn read_i64s(&self, group: &Group, name: &str) -> Result<Vec<i64>, SweepError> {
-        self.open_dataset(group, name)?
-            .read_raw()
-            .map_err(self.h5(format!("reading dataset {name} in {}", group.name())))
-    }
-
-    fn read_str(&self, group: &Group, name: &str) -> Result<String, SweepError> {
-        self.open_dataset(group, name)?
-            .read_scalar::<VarLenUnicode>()
-            .map(|v| v.as_str().to_string())
-            .map_err(self.h5(format!("reading dataset {name} in {}", group.name())))
-    }
-
-    fn read_strs(&self, group: &Group, name: &str) -> Result<Vec<String>, SweepError> {
-        let values: Vec<VarLenUnicode> = self
-            .open_dataset(group, name)?
-            .read_raw()
-            .map_err(self.h5(format!("reading dataset {name} in {}", group.name())))?;
-        Ok(values.iter().map(|v| v.as_str().to_string()).collect())
-    }
-
-    fn status(&self, text: &str) -> Result<CaseStatus, SweepError> {
-        CaseStatus::from_name(text).ok_or_else(|| self.invalid(format!("unknown status {text:?}")))
-    }
-
-    fn read_summary(&self, file: &File, grid: &Grid) -> Result<Summary, SweepError> {
-        let g = self.open_group(file, "summary")?;
-        let index = self.read_i64s(&g, "case_index")?;
-        let n = index.len();
-        let case_index = index
-            .iter()
-            .map(|&i| {
-                usize::try_from(i)
-                    .ok()
-                    .filter(|&i| i < grid.len())
-                    .ok_or_else(|| self.invalid(format!("case index {i} out of range")))
-            })
-            .collect::<Result<Vec<_>, _>>()?;
-        let status = self
-            .read_strs(&g, "status")?
-            .iter()
-            .map(|s| self.status(s))
-            .collect::<Result<Vec<_>, _>>()?;
-        let message = self.read_strs(&g, "message")?;
-        let pg = self.open_group(&g, "parameters")?;
-        let mut parameters = Vec::new();
-        for key in grid.keys() {
-            let values = self.read_f64s(&pg, &key)?;
-            parameters.push((key, values));
-        }
-        let mg = self.open_group(&g, "metrics")?;
-        let mut metrics = Vec::new();
-        for name in self.read_strs(&g, "metric_order")? {
-            let ds = self.open_dataset(&mg, &name)?;
-            let values: Vec<f64> = ds
-                .read_raw()
-                .map_err(self.h5(format!("reading /summary/metrics/{name}")))?;
-            metrics.push(SummaryMetric {
-                unit: self.read_attr_str(&ds, "units")?,
-                values,
-                name,
-            });
-        }
-        let lengths_ok = status.len() == n
-            && message.len() == n
-            && parameters.iter().all(|(_, v)| v.len() == n)
-            && metrics.iter().all(|m| m.values.len() == n);
-        if !lengths_ok {
-            return Err(self.invalid("the /summary datasets differ in length"));
-        }
-        Ok(Summary {
-            case_index,
-            parameters,
-            metrics,
-            status,
-            message,
+/// Reads `/summary`, checking its case indices against `grid`.
+fn read_summary(ctx: &H5Context, file: &File, grid: &Grid) -> Result<Summary, SweepError> {
+    let g = ctx.open_group(file, "summary")?;
+    let index = ctx.read_1d::<i64>(&g, "case_index")?;
+    let n = index.len();
+    let case_index = index
+        .iter()
+        .map(|&i| {
+            usize::try_from(i)
+                .ok()
+                .filter(|&i| i < grid.len())
+                .ok_or_else(|| ctx.invalid(format!("case index {i} out of range")))
         })
+        .collect::<Result<Vec<_>, _>>()?;
+    let status = ctx
+        .read_strs(&g, "status")?
+        .iter()
+        .map(|s| status(ctx, s))
+        .collect::<Result<Vec<_>, _>>()?;
+    let message = ctx.read_strs(&g, "message")?;
+    let pg = ctx.open_group(&g, "parameters")?;
+    let mut parameters = Vec::new();
+    for key in grid.keys() {
+        let values = ctx.read_f64s(&pg, &key)?;
+        parameters.push((key, values));
     }
+    let mg = ctx.open_group(&g, "metrics")?;
+    let mut metrics = Vec::new();
+    for name in ctx.read_strs(&g, "metric_order")? {
+        let ds = ctx.open_dataset(&mg, &name)?;
+        let values = ctx.read_1d_from(&ds)?;
+        metrics.push(SummaryMetric {
+            unit: ctx.read_attr_str(&ds, "units")?,
+            values,
+            name,
+        });
+    }
+    let lengths_ok = status.len() == n
+        && message.len() == n
+        && parameters.iter().all(|(_, v)| v.len() == n)
+        && metrics.iter().all(|m| m.values.len() == n);
+    if !lengths_ok {
+        return Err(ctx.invalid("the /summary datasets differ in length").into());
+    }
+    Ok(Summary {
+        case_index,
+        parameters,
+        metrics,
+        status,
+        message,
+    })
+}
 
-    fn read_case(&self, g: &Group) -> Result<SweepCase, SweepError> {
-        let index = usize::try_from(self.read_attr_i64(g, "case_index")?)
-            .map_err(|_| self.invalid(format!("negative case_index in {}", g.name())))?;
-        let time = self.read_f64s(g, "time")?;
-        let cg = self.open_group(g, "channels")?;
-        let mut channels = Vec::new();
-        for name in self.read_strs(g, "channel_order")? {
-            let ds = self.open_dataset(&cg, &name)?;
-            let data: Vec<f64> = ds
-                .read_raw()
-                .map_err(self.h5(format!("reading {}", ds.name())))?;
-            if data.len() != time.len() {
-                return Err(self.invalid(format!("{} is not as long as time", ds.name())));
-            }
-            channels.push(Channel {
-                unit: self.read_attr_str(&ds, "units")?,
-                description: self.read_attr_str(&ds, "description")?,
-                data,
-                name,
-            });
-        }
-        let mg = self.open_group(g, "metrics")?;
-        let mut metrics = Vec::new();
-        for name in self.read_strs(g, "metric_order")? {
-            let ds = self.open_dataset(&mg, &name)?;
-            let value: f64 = ds
-                .read_scalar()
-                .map_err(self.h5(format!("reading {}", ds.name())))?;
-            metrics.push(Metric {
-                unit: self.read_attr_str(&ds, "units")?,
-                value,
-                name,
-            });
-        }
-        let kg = self.open_group(g, "criteria")?;
-        let names = self.read_strs(&kg, "name")?;
-        let values = self.read_f64s(&kg, "value")?;
-        let lower = self.read_f64s(&kg, "lower")?;
-        let upper = self.read_f64s(&kg, "upper")?;
-        let passed: Vec<u8> = self
-            .open_dataset(&kg, "passed")?
-            .read_raw()
-            .map_err(self.h5("reading criteria/passed"))?;
-        if [values.len(), lower.len(), upper.len(), passed.len()] != [names.len(); 4] {
-            return Err(self.invalid(format!("the criteria of {} differ in length", g.name())));
-        }
-        let limit = |x: f64| if x.is_nan() { None } else { Some(x) };
-        let criteria = (0..names.len())
-            .map(|i| Criterion {
-                name: names[i].clone(),
-                value: values[i],
-                lower: limit(lower[i]),
-                upper: limit(upper[i]),
-                passed: passed[i] != 0,
-            })
-            .collect();
-        Ok(SweepCase {
-            index,
-            parameters: self.read_f64s(g, "parameters")?,
-            overrides: self.read_strs(g, "overrides")?,
-            status: self.status(&self.read_attr_str(g, "status")?)?,
-            message: self.read_attr_str(g, "message")?,
-            failure_time_s: self.read_attr_f64(g, "failure_time_s")?,
-            time,
-            channels,
-            metrics,
-            criteria,
-        })
-    }
+/// Reads one case group `/cases/<n>`.
+fn read_case(ctx: &H5Context, g: &Group) -> Result<SweepCase, SweepError> {
+    let index = usize::try_from(ctx.read_attr_i64(g, "case_index")?)
+        .map_err(|_| ctx.invalid(format!("negative case_index in {}", g.name())))?;
+    let samples = ctx.read_samples(g)?;
+    Ok(SweepCase {
+        index,
+        parameters: ctx.read_f64s(g, "parameters")?,
+        overrides: ctx.read_strs(g, "overrides")?,
+        status: status(ctx, &ctx.read_attr_str(g, "status")?)?,
+        message: ctx.read_attr_str(g, "message")?,
+        failure_time_s: ctx.read_attr_f64(g, "failure_time_s")?,
+        time: samples.time,
+        channels: samples.channels,
+        metrics: samples.metrics,
+        criteria: samples.criteria,
+    })
 }
 
 /// Cases read per opening of a shard file in [`for_each_case`].
@@ -826,13 +564,11 @@ pub(crate) fn for_each_case(
     file: &SweepFile,
     mut each: impl FnMut(SweepCase) -> Result<(), SweepError>,
 ) -> Result<(), SweepError> {
-    let ctx = Ctx::new(&file.path);
+    let ctx = H5Context::new(&file.path, TrackTimes::Off);
     for batch in file.summary.case_index.chunks(READ_BATCH) {
         let mut cases = Vec::with_capacity(batch.len());
         {
-            let h5 = unlocked()
-                .open(&file.path)
-                .map_err(ctx.h5("opening the file as HDF5"))?;
+            let h5 = ctx.open_file()?;
             let group_of_cases = ctx.open_group(&h5, "cases")?;
             for &index in batch {
                 let name = case_name(index, file.case_total);
@@ -841,9 +577,11 @@ pub(crate) fn for_each_case(
                         "summary lists case {index} but /cases/{name} is missing"
                     ))
                 })?;
-                let case = ctx.read_case(&group)?;
+                let case = read_case(&ctx, &group)?;
                 if case.index != index {
-                    return Err(ctx.invalid(format!("/cases/{name} holds case {}", case.index)));
+                    return Err(ctx
+                        .invalid(format!("/cases/{name} holds case {}", case.index))
+                        .into());
                 }
                 cases.push(case);
             }
