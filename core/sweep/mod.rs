@@ -24,8 +24,10 @@
 //! Cases run in parallel on a pool of exactly `jobs` threads, in chunks of
 //! `4 × jobs` cases; while the pool computes one chunk, the calling thread
 //! writes the previous one in case-index order, so memory holds at most two
-//! chunks of cases and the file's contents do not depend on thread timing. Object modification times are
-//! switched off for every group and dataset (HDF5 `obj_track_times`), so two
+//! chunks of cases and the file's contents do not depend on thread timing.
+//! Object modification times are switched off on the file's root and every
+//! group (HDF5 `obj_track_times`, which datasets created in them follow; no
+//! stored times show in `h5ls -v`), so two
 //! sweeps of the same inputs give byte-identical files **except** for the
 //! root attribute `created_utc`; set the environment variable
 //! `SOURCE_DATE_EPOCH` (seconds since 1970, common practice for reproducible
