@@ -26,8 +26,8 @@
 //! writes the previous one in case-index order, so memory holds at most two
 //! chunks of cases and the file's contents do not depend on thread timing.
 //! Object modification times are switched off on the file's root and every
-//! group (HDF5 `obj_track_times`, which datasets created in them follow; no
-//! stored times show in `h5ls -v`), so two
+//! group (HDF5 `obj_track_times`; `h5ls -v` shows no stored times, and the
+//! byte-identity tests pass), so two
 //! sweeps of the same inputs give byte-identical files **except** for the
 //! root attribute `created_utc`; set the environment variable
 //! `SOURCE_DATE_EPOCH` (seconds since 1970, common practice for reproducible
