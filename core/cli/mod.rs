@@ -54,7 +54,13 @@ pub fn exit_code(err: &anyhow::Error) -> u8 {
 ///
 /// Exit codes: 0 success; 1 a run, criterion or check failed; 2 bad input.
 #[derive(Debug, Parser)]
-#[command(name = "yawdyn", version = version(), about, long_about = None)]
+#[command(
+    name = "yawdyn",
+    version = version(),
+    about,
+    long_about = None,
+    after_help = "Exit codes: 0 success; 1 a run, criterion or regression check failed (or no trim exists); 2 bad input (options, vehicle file, script)."
+)]
 pub struct Cli {
     #[command(subcommand)]
     command: Command,

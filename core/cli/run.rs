@@ -28,7 +28,8 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     vehicle: Option<PathBuf>,
     /// Override a vehicle parameter by dotted path, e.g. `--set drive.front_share=0.3`
-    /// (repeatable; applied after the script's own `set` calls).
+    /// (repeatable; applied after the script's own `set` calls), or a manoeuvre
+    /// parameter the script reads with `param`, e.g. `--set manoeuvre.exit_torque=3000`.
     #[arg(long = "set", value_name = "KEY=VALUE")]
     sets: Vec<String>,
     /// Results file (HDF5). Default: results/<script name>.h5 in the current directory.

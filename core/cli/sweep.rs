@@ -28,7 +28,7 @@ const MAX_MESSAGE: usize = 60;
 pub struct Args {
     /// Manoeuvre script (.rhai).
     script: PathBuf,
-    /// Varied parameter: dotted vehicle key, first value, last value, number
+    /// Varied parameter: dotted vehicle key (or `manoeuvre.<name>`), first value, last value, number
     /// of values (≥ 1), e.g. `drive.front_share=0:1:11`. Repeatable; the grid
     /// is full factorial with the first --vary varying slowest.
     #[arg(long = "vary", value_name = "KEY=START:STOP:COUNT")]
@@ -36,7 +36,8 @@ pub struct Args {
     /// Vehicle file replacing the script's own.
     #[arg(long)]
     vehicle: Option<PathBuf>,
-    /// Override a vehicle parameter in every case (repeatable; a --vary of the same key wins).
+    /// Override a vehicle parameter (or a `manoeuvre.<name>` parameter) in every
+    /// case (repeatable; a --vary of the same key wins).
     #[arg(long = "set", value_name = "KEY=VALUE")]
     sets: Vec<String>,
     /// Worker threads (default: the available parallelism).
