@@ -4,81 +4,21 @@
 //! speed under a speed controller), written with `results::write_hdf5`.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
 
-use yawdyn::manoeuvre::SpeedController;
-use yawdyn::model::{Commands, straight_running};
-use yawdyn::params::{Override, load_vehicle};
-use yawdyn::results::{Provenance, write_hdf5};
-use yawdyn::sim::{Simulation, SolverSettings};
-
-const VEHICLE: &str = concat!(
-    env!("CARGO_MANIFEST_DIR"),
-    "/scripts/vehicles/hybrid_crossover.toml"
-);
+mod common;
+use common::{SteerRamp, text, yawdyn_raw as yawdyn};
 
 /// Runs a steer ramp (4 deg/s at the steering wheel from t = 0.5 s) at
 /// 80 km/h for `duration` s with the given overrides; writes `dir/name`.
 fn simulate(dir: &Path, name: &str, overrides: &[&str], duration: f64) -> PathBuf {
-    let overrides: Vec<Override> = overrides
-        .iter()
-        .map(|o| Override::parse(o).expect("override"))
-        .collect();
-    let vehicle = load_vehicle(Path::new(VEHICLE), &overrides).expect("vehicle");
-    let speed = 80.0 / 3.6;
-    let mut sim = Simulation::new(
-        &vehicle,
-        straight_running(&vehicle, speed),
-        SolverSettings::default(),
-        100.0,
-    )
-    .expect("simulation");
-    let mut controller = SpeedController::default();
-    let tick = 0.01;
-    let mut commands = Commands::neutral(&vehicle);
-    let ticks = (duration / tick).round() as usize;
-    for k in 0..ticks {
-        let t = k as f64 * tick;
-        let v = sim.state()[yawdyn::model::VX].hypot(sim.state()[yawdyn::model::VY]);
-        let (drive, brake) = controller.update(speed, v, tick);
-        commands.drive_request = drive;
-        commands.brake_request = brake;
-        commands.steer_wheel_angle = (4.0_f64 * (t - 0.5).max(0.0)).to_radians();
-        sim.advance((k + 1) as f64 * tick, &commands).expect("run");
+    SteerRamp {
+        overrides,
+        rate_deg_s: 4.0,
+        duration,
+        sample_rate: 100.0,
+        script_path: "tests/invented_steer_ramp.rhai",
     }
-    let provenance = Provenance {
-        yawdyn_version: "test".into(),
-        script_path: "tests/invented_steer_ramp.rhai".into(),
-        vehicle_path: VEHICLE.into(),
-        vehicle_toml: vehicle.to_toml(),
-        overrides: overrides.iter().map(Override::to_text).collect(),
-        solver: "dopri5".into(),
-        rtol: 1e-6,
-        atol: 1e-6,
-        sample_rate_hz: 100.0,
-        tick_rate_hz: 100.0,
-        ..Provenance::default()
-    };
-    let path = dir.join(name);
-    write_hdf5(&sim.into_record(provenance), &path).expect("write");
-    path
-}
-
-/// Runs the real `yawdyn` binary in `dir`.
-fn yawdyn(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_yawdyn"))
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .expect("run yawdyn")
-}
-
-fn text(out: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    )
+    .write(dir, name)
 }
 
 #[test]

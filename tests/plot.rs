@@ -5,14 +5,12 @@
 //! ISO 4138's constant-speed method).
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
 
-use yawdyn::manoeuvre::SpeedController;
 use yawdyn::model::linear::summarize;
-use yawdyn::model::{Commands, VX, VY, straight_running};
 use yawdyn::params::load_vehicle;
-use yawdyn::results::{Provenance, write_hdf5};
-use yawdyn::sim::{Simulation, SolverSettings};
+
+mod common;
+use common::{SteerRamp, text, yawdyn_raw as yawdyn};
 
 const VEHICLE: &str = concat!(
     env!("CARGO_MANIFEST_DIR"),
@@ -23,60 +21,14 @@ const VEHICLE: &str = concat!(
 /// 80 km/h for `duration` s; writes `dir/name` with `script_path` in the
 /// provenance (the script itself is not run: the manoeuvre is coded here).
 fn simulate(dir: &Path, name: &str, script_path: &str, rate_deg_s: f64, duration: f64) -> PathBuf {
-    let vehicle = load_vehicle(Path::new(VEHICLE), &[]).expect("vehicle");
-    let speed = 80.0 / 3.6;
-    let mut sim = Simulation::new(
-        &vehicle,
-        straight_running(&vehicle, speed),
-        SolverSettings::default(),
-        50.0,
-    )
-    .expect("simulation");
-    let mut controller = SpeedController::default();
-    let tick = 0.01;
-    let mut commands = Commands::neutral(&vehicle);
-    let ticks = (duration / tick).round() as usize;
-    for k in 0..ticks {
-        let t = k as f64 * tick;
-        let v = sim.state()[VX].hypot(sim.state()[VY]);
-        let (drive, brake) = controller.update(speed, v, tick);
-        commands.drive_request = drive;
-        commands.brake_request = brake;
-        commands.steer_wheel_angle = (rate_deg_s * (t - 0.5).max(0.0)).to_radians();
-        sim.advance((k + 1) as f64 * tick, &commands).expect("run");
+    SteerRamp {
+        overrides: &[],
+        rate_deg_s,
+        duration,
+        sample_rate: 50.0,
+        script_path,
     }
-    let provenance = Provenance {
-        yawdyn_version: "test".into(),
-        script_path: script_path.into(),
-        vehicle_path: VEHICLE.into(),
-        vehicle_toml: vehicle.to_toml(),
-        solver: "dopri5".into(),
-        rtol: 1e-6,
-        atol: 1e-6,
-        sample_rate_hz: 50.0,
-        tick_rate_hz: 100.0,
-        ..Provenance::default()
-    };
-    let path = dir.join(name);
-    write_hdf5(&sim.into_record(provenance), &path).expect("write");
-    path
-}
-
-/// Runs the real `yawdyn` binary in `dir`.
-fn yawdyn(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_yawdyn"))
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .expect("run yawdyn")
-}
-
-fn text(out: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    )
+    .write(dir, name)
 }
 
 fn assert_labels(svg: &Path, labels: &[&str]) {

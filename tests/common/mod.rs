@@ -124,3 +124,95 @@ where
         wall: start.elapsed(),
     }
 }
+
+/// A steer ramp at 80 km/h under the speed controller on the invented demo
+/// crossover: a real model run written as a results file, for tests of the
+/// commands that read results files (`check`, `plot`). The manoeuvre is coded
+/// here; `script_path` only labels the provenance.
+#[derive(Debug, Clone)]
+pub struct SteerRamp<'a> {
+    /// Vehicle overrides (`key=value`).
+    pub overrides: &'a [&'a str],
+    /// Steering-wheel rate from t = 0.5 s, deg/s.
+    pub rate_deg_s: f64,
+    /// Simulated time, s.
+    pub duration: f64,
+    /// Output sample rate, Hz.
+    pub sample_rate: f64,
+    /// Script path stored in the provenance.
+    pub script_path: &'a str,
+}
+
+impl SteerRamp<'_> {
+    /// Runs the manoeuvre and writes `dir/name`; returns the path.
+    pub fn write(&self, dir: &Path, name: &str) -> PathBuf {
+        use yawdyn::manoeuvre::SpeedController;
+        use yawdyn::model::{Commands, VX, VY, straight_running};
+        use yawdyn::params::{Override, load_vehicle};
+        use yawdyn::results::{Provenance, write_hdf5};
+        use yawdyn::sim::{Simulation, SolverSettings};
+
+        let overrides: Vec<Override> = self
+            .overrides
+            .iter()
+            .map(|o| Override::parse(o).expect("override"))
+            .collect();
+        let vehicle_path = repo_path("scripts/vehicles/hybrid_crossover.toml");
+        let vehicle = load_vehicle(&vehicle_path, &overrides).expect("vehicle");
+        let speed = 80.0 / 3.6;
+        let mut sim = Simulation::new(
+            &vehicle,
+            straight_running(&vehicle, speed),
+            SolverSettings::default(),
+            self.sample_rate,
+        )
+        .expect("simulation");
+        let mut controller = SpeedController::default();
+        let tick = 0.01;
+        let mut commands = Commands::neutral(&vehicle);
+        let ticks = (self.duration / tick).round() as usize;
+        for k in 0..ticks {
+            let t = k as f64 * tick;
+            let v = sim.state()[VX].hypot(sim.state()[VY]);
+            let (drive, brake) = controller.update(speed, v, tick);
+            commands.drive_request = drive;
+            commands.brake_request = brake;
+            commands.steer_wheel_angle = (self.rate_deg_s * (t - 0.5).max(0.0)).to_radians();
+            sim.advance((k + 1) as f64 * tick, &commands).expect("run");
+        }
+        let provenance = Provenance {
+            yawdyn_version: "test".into(),
+            script_path: self.script_path.into(),
+            vehicle_path: vehicle_path.display().to_string(),
+            vehicle_toml: vehicle.to_toml(),
+            overrides: overrides.iter().map(Override::to_text).collect(),
+            solver: "dopri5".into(),
+            rtol: 1e-6,
+            atol: 1e-6,
+            sample_rate_hz: self.sample_rate,
+            tick_rate_hz: 100.0,
+            ..Provenance::default()
+        };
+        let path = dir.join(name);
+        write_hdf5(&sim.into_record(provenance), &path).expect("write");
+        path
+    }
+}
+
+/// Runs the real binary in `dir`, returning the raw process output.
+pub fn yawdyn_raw(dir: &Path, args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_yawdyn"))
+        .current_dir(dir)
+        .args(args)
+        .output()
+        .expect("run yawdyn")
+}
+
+/// Standard output and standard error of a raw output, as one text.
+pub fn text(out: &std::process::Output) -> String {
+    format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    )
+}
