@@ -415,6 +415,23 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
         Ok(())
     });
     let s = session.clone();
+    engine.register_fn(
+        "steady_state_steer",
+        move |speed: Dynamic, lat_accel: Dynamic| -> Res<f64> {
+            let v = lock(&s).vehicle()?;
+            let speed = num(&speed, "speed")?;
+            let lat_accel = num(&lat_accel, "lateral acceleration")?;
+            let target = crate::stability::TrimTarget::cornering(&v, speed, lat_accel);
+            let settings = crate::stability::TrimSettings::default();
+            match crate::stability::find_trim(&v, &target, &settings) {
+                Ok(trim) => Ok(trim.steer_wheel_angle()),
+                Err(e) => Err(script_error(format!(
+                    "no steady state at {speed} m/s and {lat_accel} m/s²: {e}"
+                ))),
+            }
+        },
+    );
+    let s = session.clone();
     engine.register_fn("vehicle_info", move || -> Res<Map> {
         let v = lock(&s).vehicle()?;
         let bike = model::linear::bicycle_model(&v);
