@@ -671,6 +671,7 @@ pub fn plot_map(map: &StabilityMap, path: &Path) -> anyhow::Result<()> {
             z_label: "yaw/sideslip damping ratio [1]",
             highlight: Some(&marks),
             highlight_label: "unstable",
+            missing_label: "no trim",
         },
     )?;
     Ok(())

@@ -34,6 +34,9 @@ pub struct HeatMap<'a> {
     /// Legend text saying what the mark means, e.g. "unstable". Used only
     /// when `highlight` is given.
     pub highlight_label: &'a str,
+    /// Legend text for the grey cells of non-finite values, e.g. "no data"
+    /// or "no trim". Shown only when such cells exist.
+    pub missing_label: &'a str,
 }
 
 /// Fill of cells without a finite value.
@@ -332,7 +335,7 @@ pub fn heat_map(path: &Path, title: &str, map: &HeatMap<'_>) -> Result<(), PlotE
                 entry(&mut x, viridis(0.5), true, map.highlight_label)?;
             }
             if any_missing {
-                entry(&mut x, NO_DATA, false, "no data")?;
+                entry(&mut x, NO_DATA, false, map.missing_label)?;
             }
         }
         Ok(())
@@ -386,6 +389,7 @@ mod tests {
             z_label: "yaw damping ratio [-]",
             highlight: Some(&marks),
             highlight_label: "unstable",
+            missing_label: "no data",
         };
         heat_map(&path, "Stability map", &map).unwrap();
         let svg = std::fs::read_to_string(&path).unwrap();
@@ -438,6 +442,7 @@ mod tests {
                 z_label: "c [-]",
                 highlight: Some(marks),
                 highlight_label: "marked",
+                missing_label: "no data",
             };
             heat_map(&path, "Outline", &map).unwrap();
             let svg = std::fs::read_to_string(&path).unwrap();
@@ -474,6 +479,7 @@ mod tests {
             z_label: "c [-]",
             highlight: None,
             highlight_label: "",
+            missing_label: "no data",
         };
         heat_map(&path, "Gap", &map).unwrap();
         let svg = std::fs::read_to_string(&path).unwrap();
@@ -496,6 +502,7 @@ mod tests {
             z_label: "c [-]",
             highlight: Some(&marks),
             highlight_label: "marked",
+            missing_label: "no data",
         };
         let empty = HeatMap { x: &[], ..good };
         assert!(matches!(
@@ -562,6 +569,7 @@ mod tests {
             z_label: "c [-]",
             highlight: None,
             highlight_label: "",
+            missing_label: "no data",
         };
         heat_map(&path, "One", &map).unwrap();
         assert!(std::fs::read_to_string(&path).unwrap().starts_with("<svg"));
