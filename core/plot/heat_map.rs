@@ -167,6 +167,7 @@ fn check_shape<T>(
 ///     z_label: "damping ratio [-]",
 ///     highlight: Some(&unstable),
 ///     highlight_label: "unstable",
+///     missing_label: "no data",
 /// })?;
 /// # Ok::<(), yawdyn::plot::PlotError>(())
 /// ```
