@@ -17,6 +17,7 @@
 pub mod analysis;
 pub mod bench;
 pub mod check;
+pub mod error;
 pub mod manoeuvre;
 pub mod model;
 pub mod params;
