@@ -45,6 +45,44 @@ fn assert_channels_kept(r: &RunRecord, min_samples: usize) {
     }
 }
 
+/// Reduced rear grip (λμy = 0.6) makes the demo crossover spin in the
+/// sine with dwell. The shipped evaluation records it: the FMVSS 126
+/// criteria fail with NaN values, the reason is a note, the run exits 1 and
+/// the file keeps every channel. The yaw angle passing 90° confirms the spin.
+#[test]
+fn spinning_car_in_sine_with_dwell_fails_its_criteria_and_keeps_its_channels() {
+    let dir = TempDir::new();
+    let script = repo_path("scripts/sine_with_dwell.rhai");
+    let out = dir.yawdyn([
+        "run",
+        script.to_str().unwrap(),
+        "--quiet",
+        "--out",
+        "spin.h5",
+        "--set",
+        "tyre.rear.magic_formula.lambda_muy=0.6",
+    ]);
+    out.expect_code(1);
+    let r = read_hdf5(&dir.join("spin.h5")).unwrap();
+    assert_eq!(r.status, RunStatus::Completed);
+    assert_channels_kept(&r, 900);
+    let yaw = &r.channel("yaw").unwrap().data;
+    assert!(
+        yaw.iter().any(|y| y.abs() > std::f64::consts::FRAC_PI_2),
+        "no spin"
+    );
+    assert_eq!(r.criteria.len(), 3);
+    assert!(r.criteria.iter().all(|c| !c.passed && c.value.is_nan()));
+    let ratio = r.metrics.iter().find(|m| m.name == "yaw_rate_ratio_1_00");
+    assert!(ratio.unwrap().value.is_nan());
+    let note = r
+        .provenance
+        .extra
+        .iter()
+        .find(|(k, _)| k == "note.sine_with_dwell_result");
+    assert!(note.unwrap().1.contains("yaw-rate peak"), "{note:?}");
+}
+
 /// The same spin with an evaluation that throws: the run is `failed`, the
 /// message names the script position of the failing call, exit code 1, and
 /// the channels are kept.
