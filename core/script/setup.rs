@@ -370,11 +370,6 @@ impl Setup {
         self.config = Some(config.clone());
         Ok(config)
     }
-
-    /// The configuration if fixed.
-    pub fn fixed(&self) -> Option<&Arc<RunConfig>> {
-        self.config.as_ref()
-    }
 }
 
 #[cfg(test)]
