@@ -7,7 +7,8 @@
 //!
 //! The modules follow the data flow:
 //! parameters ([`params`]) → tyre ([`tyre`]) → vehicle model ([`model`]) →
-//! integration ([`sim`]) → manoeuvre scripts and drivers ([`manoeuvre`]) →
+//! integration ([`sim`]) → signals and drivers ([`manoeuvre`]) → runs of
+//! manoeuvre scripts ([`script`]) →
 //! results files ([`results`]) → analysis ([`analysis`]) → plots ([`plot`]).
 //!
 //! Axes follow ISO 8855: x forward, y left, z up; all quantities are SI unless
@@ -23,6 +24,7 @@ pub mod model;
 pub mod params;
 pub mod plot;
 pub mod results;
+pub mod script;
 pub mod sim;
 pub mod stability;
 pub mod sweep;

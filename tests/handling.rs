@@ -1,10 +1,10 @@
 //! Handling-diagram checks of the shipped steady-state circle manoeuvre
 //! against the linear reference (ISO 4138 definition; Gillespie ch. 6).
 
-use yawdyn::manoeuvre::script::{RunOptions, run_script};
 use yawdyn::model::linear::summarize;
 use yawdyn::params::{Override, load_vehicle};
 use yawdyn::results::RunStatus;
+use yawdyn::script::{RunOptions, run_script};
 
 mod common;
 use common::LINEARISE;

@@ -7,9 +7,9 @@ mod common;
 use std::path::Path;
 
 use common::{TempDir, repo_path};
-use yawdyn::manoeuvre::script::{RunOptions, run_script, run_script_text};
 use yawdyn::params::{GRAVITY, Override, load_vehicle, load_vehicle_text};
 use yawdyn::results::{RunRecord, RunStatus, read_hdf5};
+use yawdyn::script::{RunOptions, run_script, run_script_text};
 
 const SHIPPED: [&str; 9] = [
     "step_steer",
@@ -439,7 +439,9 @@ fn runtime_error_reports_file_line_column() {
         "{}",
         out.stderr
     );
-    // An error inside the evaluation function points into it as well.
+    // An error inside the evaluation function comes after the simulation:
+    // the run is failed (exit 1), its file is written, and the message
+    // points into the function.
     let out = bad_script(
         &dir,
         "eval.rhai",
@@ -447,8 +449,13 @@ fn runtime_error_reports_file_line_column() {
             "run_for(0.1);\nfn evaluate(ch) {\n    metric(\"m\", ch.no_such_channel[0], \"s\");\n}\n",
         ),
     );
-    out.expect_code(2);
+    out.expect_code(1);
     assert!(out.stderr.contains("eval.rhai:4:"), "{}", out.stderr);
+    let r = read_hdf5(&dir.join("results/eval.h5")).unwrap();
+    let RunStatus::Failed { message, .. } = &r.status else {
+        panic!("{:?}", r.status);
+    };
+    assert!(message.contains("eval.rhai:4:"), "{message}");
 }
 
 #[test]
@@ -458,7 +465,6 @@ fn endless_loop_is_stopped_by_the_operation_limit() {
     out.expect_code(2);
     assert!(out.stderr.contains("operation limit"), "{}", out.stderr);
     assert!(out.stderr.contains("forever.rhai:2:"), "{}", out.stderr);
-    assert!(out.wall.as_secs_f64() < 2.0, "took {:?}", out.wall);
     // Endless loop inside a per-tick controller.
     let out = bad_script(
         &dir,
@@ -467,7 +473,6 @@ fn endless_loop_is_stopped_by_the_operation_limit() {
     );
     out.expect_code(2);
     assert!(out.stderr.contains("operation limit"), "{}", out.stderr);
-    assert!(out.wall.as_secs_f64() < 2.0, "took {:?}", out.wall);
 }
 
 #[test]

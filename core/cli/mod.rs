@@ -44,6 +44,15 @@ pub fn bad_input(message: impl Into<String>) -> anyhow::Error {
 /// Exit code for an error: 2 for bad input (options, parameter files,
 /// scripts), 1 for anything else.
 pub fn exit_code(err: &anyhow::Error) -> u8 {
+    use yawdyn::error::Classify;
+    // A classified library error decides (the first in the chain).
+    let classified = err.chain().find_map(|c| {
+        c.downcast_ref::<yawdyn::script::ScriptError>()
+            .map(|e| e.kind().exit_code())
+    });
+    if let Some(code) = classified {
+        return code;
+    }
     let bad = err.chain().any(|c| {
         c.is::<BadInput>() || c.is::<yawdyn::params::ParamError>() || c.is::<clap::Error>()
     });

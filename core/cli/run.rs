@@ -7,19 +7,20 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 
 use anyhow::Context;
-use yawdyn::manoeuvre::script::{RunOptions, ScriptError, run_script};
 use yawdyn::results::{self, RunRecord, RunStatus};
+use yawdyn::script::{RunOptions, run_script};
 use yawdyn::table::{Table, fmt_num};
 
-use super::{Outcome, bad_input, parse_overrides};
+use super::{Outcome, parse_overrides};
 
 /// Arguments of `yawdyn run`.
 #[derive(Debug, clap::Args)]
 #[command(
     after_help = "Exit codes: 0 the run completed and every criterion passed; \
-1 the run failed (e.g. the integration diverged) or a criterion failed; \
-2 bad input (options, vehicle file, script error). The results file is written \
-whenever the run produced data, also when it failed."
+1 the run failed (the integration diverged, a run_until with fail_on_timeout or the \
+600 s limit was reached, or evaluate(ch) raised an error) or a criterion failed; \
+2 bad input (options, vehicle file, script error before the simulation ran). The results \
+file is written whenever the run produced data, also when it failed (status `failed`)."
 )]
 pub struct Args {
     /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai.
@@ -74,11 +75,8 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     if let Some(bar) = &bar {
         bar.finish_and_clear();
     }
-    let record = match result {
-        Ok(record) => record,
-        Err(e @ ScriptError::Vehicle { .. }) => return Err(anyhow::Error::new(e)),
-        Err(e) => return Err(bad_input(e.to_string())),
-    };
+    // A script error keeps its kind (bad input) to the exit code.
+    let record = result?;
     if let Some(dir) = out.parent().filter(|d| !d.as_os_str().is_empty()) {
         std::fs::create_dir_all(dir)
             .with_context(|| format!("cannot create directory {}", dir.display()))?;
@@ -91,6 +89,13 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     }
     if !args.quiet {
         print!("{}", summary(&record, wall, &out));
+    }
+    if let RunStatus::Failed { message, time_s } = &record.status {
+        eprintln!(
+            "error: the run failed at t = {} s: {message}\n  (results kept in {}, status `failed`)",
+            fmt_num(*time_s, 4),
+            out.display()
+        );
     }
     Ok(if record.passed() {
         Outcome::Success
@@ -164,6 +169,17 @@ fn summary(record: &RunRecord, wall: f64, out: &Path) -> String {
         }
         text.push('\n');
         text.push_str(&c.render());
+    }
+    // Notes the script kept (e.g. why a metric is NaN).
+    let notes: Vec<String> = record
+        .provenance
+        .extra
+        .iter()
+        .filter_map(|(k, v)| k.strip_prefix("note.").map(|k| format!("note {k}: {v}\n")))
+        .collect();
+    if !notes.is_empty() {
+        text.push('\n');
+        text.push_str(&notes.concat());
     }
     text
 }

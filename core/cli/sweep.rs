@@ -6,9 +6,9 @@ use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
 use indicatif::{ProgressBar, ProgressStyle};
-use yawdyn::manoeuvre::script::{RunOptions, ScriptError, run_script};
 use yawdyn::params::{Override, ParamError};
 use yawdyn::results::RunRecord;
+use yawdyn::script::{RunOptions, ScriptError, check_manoeuvre_keys, run_script};
 use yawdyn::sweep::{
     CaseStatus, Grid, Shard, SweepError, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
 };
@@ -72,6 +72,15 @@ struct Config {
 /// Runs `yawdyn sweep`.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let config = check(args)?;
+    // Every manoeuvre.* key is a parameter the script reads (bad input before any case).
+    let keys = config.spec.grid.keys();
+    let sets = config.spec.base_overrides.iter().map(|o| o.path.as_str());
+    let text = &config.spec.script_text;
+    check_manoeuvre_keys(
+        text,
+        &config.script,
+        keys.iter().map(String::as_str).chain(sets),
+    )?;
     preflight(&config)?;
     let runner = script_case_runner(&config.script, config.vehicle.as_deref());
 

@@ -3,8 +3,8 @@
 //!
 //! Everything here is a pure function of numbers: signals are functions of
 //! time, and drivers see a small [`driver::DriverView`] of the vehicle and
-//! return commands, so none of it depends on the vehicle model. Scripting of
-//! manoeuvres lives in [`script`].
+//! return commands, so none of it depends on the vehicle model. Running a
+//! manoeuvre (scripts, the tick loop) is [`crate::script`]'s business.
 //!
 //! - [`signals`]: the [`signals::Signal`] building blocks, including the
 //!   FMVSS 126 sine with dwell.
@@ -12,7 +12,6 @@
 //!   [`driver::PathFollower`].
 
 pub mod driver;
-pub mod script;
 pub mod signals;
 
 pub use driver::{DriverView, Path, PathFollower, PathPoint, SpeedController};

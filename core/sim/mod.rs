@@ -98,6 +98,14 @@ impl Default for SolverSettings {
 pub trait InputSource {
     /// The commands at time `t`, s.
     fn commands(&self, t: f64) -> Commands;
+
+    /// Changes whenever the function of time that `commands` describes changes
+    /// (new held commands, new signals). Equal values on consecutive
+    /// `Simulation::advance` calls promise the same inputs, so the integrator may
+    /// continue without restarting; `None` (the default) means "unknown: restart".
+    fn revision(&self) -> Option<u64> {
+        None
+    }
 }
 
 /// Commands held constant.

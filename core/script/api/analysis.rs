@@ -1,48 +1,14 @@
-//! What a script's `evaluate(ch)` function can use: the channels as arrays,
-//! `metric` / `criterion`, and the analysis functions of [`crate::analysis`].
+//! The analysis functions a script's `evaluate(ch)` can call: ISO 7401
+//! step response, ISO 4138 understeer gradient, FMVSS 126 sine with dwell
+//! (from [`crate::analysis`]), and array helpers (`max`, `min`, `max_abs`,
+//! `mean`, `value_at`, `between`, `first_time_above`, `distance_from`,
+//! `abs_values`, `is_nan`). Pure functions of their arguments.
 
-use rhai::{Array, Dynamic, Engine, EvalAltResult, Map};
+use rhai::{Array, Dynamic, Engine, Map};
 
-use super::session::{Shared, lock, script_error};
+use super::errors::{Res, script_error};
+use super::values::{any_number, values};
 use crate::analysis::{self, SineDwellTrace, StepResponseOptions};
-use crate::results::{Criterion, Metric, RunRecord};
-
-type Res<T> = Result<T, Box<EvalAltResult>>;
-
-/// The channels of `record` as a map name → array of floats, plus `time`.
-pub(crate) fn channel_map(record: &RunRecord) -> Map {
-    let mut m = Map::new();
-    m.insert("time".into(), Dynamic::from_array(floats(&record.time)));
-    for c in &record.channels {
-        m.insert(c.name.as_str().into(), Dynamic::from_array(floats(&c.data)));
-    }
-    m
-}
-
-fn floats(x: &[f64]) -> Array {
-    x.iter().map(|&v| Dynamic::from_float(v)).collect()
-}
-
-fn values(a: &Array, what: &str) -> Res<Vec<f64>> {
-    a.iter()
-        .map(|v| {
-            super::api::as_number(v)
-                .ok_or_else(|| script_error(format!("{what}: arrays must hold numbers")))
-        })
-        .collect()
-}
-
-fn number(v: &Dynamic, what: &str) -> Res<f64> {
-    super::api::as_number(v).ok_or_else(|| script_error(format!("{what} must be a number")))
-}
-
-fn limit(v: &Dynamic, what: &str) -> Res<Option<f64>> {
-    if v.is_unit() {
-        Ok(None)
-    } else {
-        number(v, what).map(Some)
-    }
-}
 
 fn map_of(items: &[(&str, f64)]) -> Map {
     items
@@ -72,50 +38,15 @@ fn interpolate(x: &[f64], y: &[f64], t: f64) -> f64 {
     }
 }
 
-pub(crate) fn register(engine: &mut Engine, session: &Shared) {
-    let s = session.clone();
-    engine.register_fn(
-        "metric",
-        move |name: &str, value: Dynamic, unit: &str| -> Res<()> {
-            let value = number(&value, "metric value")?;
-            lock(&s).metrics.push(Metric {
-                name: name.to_string(),
-                value,
-                unit: unit.to_string(),
-            });
-            Ok(())
-        },
-    );
-    let s = session.clone();
-    engine.register_fn("metric", move |name: &str, value: Dynamic| -> Res<()> {
-        let value = number(&value, "metric value")?;
-        lock(&s).metrics.push(Metric {
-            name: name.to_string(),
-            value,
-            unit: String::new(),
-        });
-        Ok(())
-    });
-    let s = session.clone();
-    engine.register_fn(
-        "criterion",
-        move |name: &str, value: Dynamic, lower: Dynamic, upper: Dynamic| -> Res<bool> {
-            let value = number(&value, "criterion value")?;
-            let lower = limit(&lower, "criterion lower limit")?;
-            let upper = limit(&upper, "criterion upper limit")?;
-            let passed = value.is_finite()
-                && lower.is_none_or(|l| value >= l)
-                && upper.is_none_or(|u| value <= u);
-            lock(&s).criteria.push(Criterion {
-                name: name.to_string(),
-                value,
-                lower,
-                upper,
-                passed,
-            });
-            Ok(passed)
-        },
-    );
+/// Registers the analysis functions and array helpers.
+pub(crate) fn register(engine: &mut Engine) {
+    register_standards(engine);
+    register_sine_with_dwell(engine);
+    register_arrays(engine);
+}
+
+/// ISO 7401 step response and ISO 4138 understeer gradient.
+fn register_standards(engine: &mut Engine) {
     engine.register_fn(
         "step_response",
         |time: Array, steer: Array, response: Array| -> Res<Map> {
@@ -153,10 +84,10 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
             let fit = analysis::understeer_gradient(
                 &values(&ay, "understeer_gradient")?,
                 &values(&steer, "understeer_gradient")?,
-                number(&ratio, "steering ratio")?,
-                number(&wheelbase, "wheelbase")?,
-                number(&radius, "radius")?,
-                number(&ay_max, "lateral acceleration limit")?,
+                any_number(&ratio, "steering ratio")?,
+                any_number(&wheelbase, "wheelbase")?,
+                any_number(&radius, "radius")?,
+                any_number(&ay_max, "lateral acceleration limit")?,
             )
             .ok_or_else(|| {
                 script_error(
@@ -174,6 +105,10 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
             ]))
         },
     );
+}
+
+/// FMVSS 126 sine with dwell.
+fn register_sine_with_dwell(engine: &mut Engine) {
     engine.register_fn(
         "sine_with_dwell_result",
         |time: Array, steer: Array, yaw_rate: Array, lateral: Array, mass: Dynamic| -> Res<Map> {
@@ -189,7 +124,7 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
                 yaw_rate: &r,
                 lateral_displacement: &y,
             };
-            let res = analysis::evaluate_sine_with_dwell(&trace, number(&mass, "gross mass")?)
+            let res = analysis::evaluate_sine_with_dwell(&trace, any_number(&mass, "gross mass")?)
                 .map_err(|e| script_error(format!("sine_with_dwell_result: {e}")))?;
             let flag = |b: bool| if b { 1.0 } else { 0.0 };
             Ok(map_of(&[
@@ -211,6 +146,10 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
             ]))
         },
     );
+}
+
+/// Reductions and helpers over channel arrays.
+fn register_arrays(engine: &mut Engine) {
     let reduce = |engine: &mut Engine, name: &'static str, f: fn(&[f64]) -> f64| {
         engine.register_fn(name, move |a: Array| -> Res<f64> {
             let x = values(&a, name)?;
@@ -236,14 +175,14 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
             Ok(interpolate(
                 &values(&time, "value_at")?,
                 &values(&y, "value_at")?,
-                number(&t, "time")?,
+                any_number(&t, "time")?,
             ))
         },
     );
     engine.register_fn(
         "between",
         |time: Array, y: Array, t0: Dynamic, t1: Dynamic| -> Res<Array> {
-            let (t0, t1) = (number(&t0, "start time")?, number(&t1, "end time")?);
+            let (t0, t1) = (any_number(&t0, "start time")?, any_number(&t1, "end time")?);
             let t = values(&time, "between")?;
             let y = values(&y, "between")?;
             Ok(t.iter()
@@ -256,7 +195,7 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
     engine.register_fn(
         "first_time_above",
         |time: Array, y: Array, level: Dynamic| -> Res<f64> {
-            let level = number(&level, "level")?;
+            let level = any_number(&level, "level")?;
             let t = values(&time, "first_time_above")?;
             let y = values(&y, "first_time_above")?;
             Ok(t.iter()
@@ -268,7 +207,7 @@ pub(crate) fn register(engine: &mut Engine, session: &Shared) {
     engine.register_fn(
         "distance_from",
         |x: Array, y: Array, cx: Dynamic, cy: Dynamic| -> Res<Array> {
-            let (cx, cy) = (number(&cx, "centre x")?, number(&cy, "centre y")?);
+            let (cx, cy) = (any_number(&cx, "centre x")?, any_number(&cy, "centre y")?);
             let x = values(&x, "distance_from")?;
             let y = values(&y, "distance_from")?;
             Ok(x.iter()

@@ -1,0 +1,220 @@
+//! Inputs: open-loop signals (`steer`, `drive`, `drive_torque`, `brake`,
+//! `front_share`), the drivers (`hold_speed`, `follow_*`, `release_*`), the
+//! per-tick `controller` and the commands it returns.
+
+use rhai::{Array, Dynamic, Engine, FnPtr, Map};
+
+use super::errors::{Res, script_error};
+use super::parts::Parts;
+use super::values::{direction, num, numbers, signal_error, signal_of, suggest};
+use crate::manoeuvre::{Path as DrivePath, Signal};
+use crate::script::runner::{Held, OpenInput, TickState};
+
+/// Registers the input functions.
+pub(crate) fn register(engine: &mut Engine, parts: &Parts) {
+    register_signals(engine, parts);
+    register_paths(engine, parts);
+    register_controller(engine, parts);
+}
+
+/// Open-loop inputs and the speed hold.
+fn register_signals(engine: &mut Engine, parts: &Parts) {
+    let inputs = [
+        ("steer", OpenInput::Steer),
+        ("drive", OpenInput::Drive),
+        ("drive_torque", OpenInput::DriveTorque),
+        ("brake", OpenInput::Brake),
+        ("front_share", OpenInput::FrontShare),
+    ];
+    for (name, input) in inputs {
+        let p = parts.clone();
+        engine.register_fn(name, move |v: Dynamic| -> Res<()> {
+            let signal = signal_of(&v, name)?;
+            p.inputs(|i| i.set_open(input, signal))
+        });
+    }
+    let p = parts.clone();
+    engine.register_fn("hold_speed", move |v: Dynamic| -> Res<()> {
+        let target = signal_of(&v, "target speed")?;
+        p.inputs(|i| i.hold_speed(target))
+    });
+    let p = parts.clone();
+    engine.register_fn("release_speed", move || -> Res<()> {
+        p.inputs(|i| i.release_speed())
+    });
+}
+
+/// The path follower.
+fn register_paths(engine: &mut Engine, parts: &Parts) {
+    let p = parts.clone();
+    engine.register_fn(
+        "follow_circle",
+        move |radius: Dynamic, dir: &str| -> Res<()> {
+            let r = num(&radius, "radius")?;
+            let side = direction(dir)?;
+            let st = p.runner(|r| r.state())?;
+            // Centre one radius to the side of the current heading.
+            let sign = side.sign();
+            let centre = (
+                st.x - sign * r * st.yaw.sin(),
+                st.y + sign * r * st.yaw.cos(),
+            );
+            let path = DrivePath::circle(centre.0, centre.1, r, side)
+                .map_err(|e| script_error(e.to_string()))?;
+            p.runner(|runner| runner.follow(path))?;
+            p.log.with(|log| {
+                log.remember("circle_centre_x", centre.0);
+                log.remember("circle_centre_y", centre.1);
+                log.remember("circle_radius", r);
+            });
+            Ok(())
+        },
+    );
+    let p = parts.clone();
+    engine.register_fn("follow_line", move || -> Res<()> {
+        follow(&p, |st| DrivePath::straight(st.x, st.y, st.yaw))
+    });
+    let p = parts.clone();
+    engine.register_fn("follow_lane_change", move |offset: Dynamic| -> Res<()> {
+        let o = num(&offset, "offset")?;
+        follow(&p, |st| {
+            DrivePath::double_lane_change(st.x, st.y, st.yaw, o)
+        })
+    });
+    let p = parts.clone();
+    engine.register_fn("release_steering", move || -> Res<()> {
+        let t = p.time();
+        p.inputs(|i| {
+            let held = Signal::constant(i.steer_at(t)).map_err(signal_error)?;
+            i.release_steering(held);
+            Ok(())
+        })?
+    });
+    let p = parts.clone();
+    engine.register_fn("cross_track_error", move || -> f64 {
+        p.read_inputs(|i| i.cross_track_error())
+    });
+    let p = parts.clone();
+    engine.register_fn("max_cross_track_error", move || -> f64 {
+        p.read_inputs(|i| i.max_cross_track_error())
+    });
+    let p = parts.clone();
+    engine.register_fn("reset_max_cross_track_error", move || -> Res<()> {
+        p.inputs(|i| i.reset_max_cross_track_error())
+    });
+}
+
+/// Follows the path `make` builds from the current state.
+fn follow(
+    parts: &Parts,
+    make: impl FnOnce(&TickState) -> Result<DrivePath, crate::manoeuvre::driver::DriverError>,
+) -> Res<()> {
+    let st = parts.runner(|r| r.state())?;
+    let path = make(&st).map_err(|e| script_error(e.to_string()))?;
+    parts.runner(|r| r.follow(path))
+}
+
+/// `controller(f)`, `release_controller()`.
+fn register_controller(engine: &mut Engine, parts: &Parts) {
+    let controller = parts.controller.clone();
+    engine.register_fn("controller", move |f: FnPtr| {
+        controller.with(|c| *c = Some(f));
+    });
+    let controller = parts.controller.clone();
+    engine.register_fn("release_controller", move || {
+        controller.with(|c| *c = None);
+    });
+}
+
+/// Commands a controller may return.
+const COMMAND_KEYS: [&str; 7] = [
+    "steer",
+    "drive",
+    "brake",
+    "front_share",
+    "axle_torque",
+    "wheel_torque",
+    "wheel_brake",
+];
+
+/// Reads the map (or unit) a controller returns.
+pub(crate) fn controller_output(out: Dynamic) -> Res<Held> {
+    let mut held = Held::default();
+    if out.is_unit() {
+        return Ok(held);
+    }
+    let Some(map) = out.clone().try_cast::<Map>() else {
+        return Err(script_error(format!(
+            "a controller must return a map of commands or (), got {}",
+            out.type_name()
+        )));
+    };
+    for (key, v) in &map {
+        let share = |what| -> Res<Option<f64>> { Ok(Some(num(v, what)?.clamp(0.0, 1.0))) };
+        match key.as_str() {
+            "steer" => held.steer = Some(num(v, "controller `steer`")?),
+            "drive" => held.drive = share("controller `drive`")?,
+            "brake" => held.brake = share("controller `brake`")?,
+            "front_share" => held.front_share = share("controller `front_share`")?,
+            "axle_torque" => held.axle_torque = Some(fixed::<2>(v, key)?),
+            "wheel_torque" => held.wheel_torque = fixed::<4>(v, key)?,
+            "wheel_brake" => held.wheel_brake = fixed::<4>(v, key)?.map(|b| b.max(0.0)),
+            other => {
+                return Err(script_error(format!(
+                    "controller returned unknown command `{other}`{}; commands are {}",
+                    suggest(other, &COMMAND_KEYS),
+                    COMMAND_KEYS.join(", ")
+                )));
+            }
+        }
+    }
+    Ok(held)
+}
+
+/// An array of exactly `N` finite numbers.
+fn fixed<const N: usize>(v: &Dynamic, key: &str) -> Res<[f64; N]> {
+    let a = v.clone().try_cast::<Array>().ok_or_else(|| {
+        script_error(format!(
+            "controller `{key}` must be an array of {N} numbers"
+        ))
+    })?;
+    let x = numbers(&a, key)?;
+    x.try_into().map_err(|x: Vec<f64>| {
+        script_error(format!(
+            "controller `{key}` must have {N} numbers, got {}",
+            x.len()
+        ))
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::script::api::values::array;
+
+    #[test]
+    fn controller_map_is_read_and_checked() {
+        let mut m = Map::new();
+        m.insert("drive".into(), Dynamic::from_float(1.5));
+        m.insert(
+            "axle_torque".into(),
+            Dynamic::from_array(array(&[100.0, 200.0])),
+        );
+        let h = controller_output(Dynamic::from_map(m)).unwrap();
+        assert_eq!(h.drive, Some(1.0), "drive clamped to 0..1");
+        assert_eq!(h.axle_torque, Some([100.0, 200.0]));
+        let mut bad = Map::new();
+        bad.insert("steering".into(), Dynamic::from_float(0.0));
+        let err = controller_output(Dynamic::from_map(bad))
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("unknown command `steering`"), "{err}");
+        let mut short = Map::new();
+        short.insert("wheel_brake".into(), Dynamic::from_array(array(&[1.0])));
+        let err = controller_output(Dynamic::from_map(short))
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("must have 4 numbers, got 1"), "{err}");
+        assert!(controller_output(Dynamic::UNIT).is_ok());
+    }
+}

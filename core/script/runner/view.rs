@@ -1,0 +1,190 @@
+//! What a controller sees at a tick: [`TickState`], read from the recorded
+//! channels of one sample ([`crate::sim::sample`]), so that every quantity
+//! (speed, sideslip, accelerations, tyre forces) has the one definition the
+//! results file uses.
+
+use crate::model::{Commands, Evaluation, State, WHEEL_NAMES};
+use crate::sim::{Sample, channel_list, sample};
+
+/// What a controller sees at a tick (read-only copy). Angles rad, speeds m/s,
+/// accelerations m/s², forces N, wheels in the order FL, FR, RL, RR. Each
+/// field equals the recorded channel of the same name (`steer` is
+/// `steer_wheel_angle`; wheel arrays are `<name>_<wheel>`).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct TickState {
+    /// Simulation time, s.
+    pub time: f64,
+    /// Position x (earth), m.
+    pub x: f64,
+    /// Position y (earth), m.
+    pub y: f64,
+    /// Yaw angle, rad.
+    pub yaw: f64,
+    /// Longitudinal velocity (body), m/s.
+    pub vx: f64,
+    /// Lateral velocity (body), m/s.
+    pub vy: f64,
+    /// Speed, m/s.
+    pub speed: f64,
+    /// Yaw rate, rad/s.
+    pub yaw_rate: f64,
+    /// Longitudinal acceleration (body), m/s².
+    pub ax: f64,
+    /// Lateral acceleration (body), m/s².
+    pub ay: f64,
+    /// Sideslip angle at the CG, rad (the `sideslip` channel).
+    pub sideslip: f64,
+    /// Steering-wheel angle applied over the last tick, rad.
+    pub steer: f64,
+    /// Vertical tyre loads, N.
+    pub fz: [f64; 4],
+    /// Longitudinal tyre forces, N.
+    pub fx: [f64; 4],
+    /// Lateral tyre forces, N.
+    pub fy: [f64; 4],
+    /// Longitudinal slip ratios, 1.
+    pub slip_ratio: [f64; 4],
+    /// Slip angles, rad.
+    pub slip_angle: [f64; 4],
+    /// Wheel spin speeds, rad/s.
+    pub wheel_speed: [f64; 4],
+}
+
+/// Reads one quantity of the view.
+pub type Reader = fn(&TickState) -> f64;
+
+/// Names accepted by `run_until`'s `steady:`, with the quantity each reads.
+pub const STEADY_QUANTITIES: [(&str, Reader); 7] = [
+    ("speed", |s| s.speed),
+    ("yaw_rate", |s| s.yaw_rate),
+    ("ay", |s| s.ay),
+    ("lat_accel", |s| s.ay),
+    ("ax", |s| s.ax),
+    ("sideslip", |s| s.sideslip),
+    ("steer", |s| s.steer),
+];
+
+impl TickState {
+    /// A quantity by name for `steady:` conditions (see [`STEADY_QUANTITIES`]).
+    pub fn quantity(&self, name: &str) -> Option<f64> {
+        STEADY_QUANTITIES
+            .iter()
+            .find(|(n, _)| *n == name)
+            .map(|(_, read)| read(self))
+    }
+}
+
+/// Body quantities of the view and the channel each is read from.
+const BODY: [&str; 11] = [
+    "x",
+    "y",
+    "yaw",
+    "vx",
+    "vy",
+    "speed",
+    "yaw_rate",
+    "ax",
+    "ay",
+    "sideslip",
+    "steer_wheel_angle",
+];
+
+/// Per-wheel quantities of the view, as channel stems (`<stem>_<wheel>`).
+const WHEEL: [&str; 6] = ["fz", "fx", "fy", "slip_ratio", "slip_angle", "wheel_speed"];
+
+/// Where each quantity of the view sits in a [`Sample`], found once by name.
+#[derive(Debug, Clone)]
+pub struct ViewIndex {
+    body: [usize; BODY.len()],
+    wheel: [[usize; 4]; WHEEL.len()],
+    /// (x0, y0, yaw0) of the run, for the samples' `lateral_offset`.
+    initial: (f64, f64, f64),
+}
+
+impl ViewIndex {
+    /// The index over the channel list; `Err` names a channel that is missing.
+    pub fn new(initial: (f64, f64, f64)) -> Result<Self, String> {
+        let names: Vec<String> = channel_list().into_iter().map(|(n, ..)| n).collect();
+        let find = |name: &str| {
+            names
+                .iter()
+                .position(|n| n == name)
+                .ok_or_else(|| format!("internal: no channel `{name}` for the controller view"))
+        };
+        let mut body = [0; BODY.len()];
+        for (slot, name) in body.iter_mut().zip(BODY) {
+            *slot = find(name)?;
+        }
+        let mut wheel = [[0; 4]; WHEEL.len()];
+        for (slots, stem) in wheel.iter_mut().zip(WHEEL) {
+            for (slot, w) in slots.iter_mut().zip(WHEEL_NAMES) {
+                *slot = find(&format!("{stem}_{w}"))?;
+            }
+        }
+        Ok(Self {
+            body,
+            wheel,
+            initial,
+        })
+    }
+
+    /// The view at time `t` of state `x` under commands `c` with the model
+    /// output `e`.
+    pub fn view(&self, t: f64, x: &State, c: &Commands, e: &Evaluation) -> TickState {
+        self.read(t, &sample(x, c, e, self.initial))
+    }
+
+    /// The view of one recorded sample at time `t`.
+    pub fn read(&self, t: f64, s: &Sample) -> TickState {
+        let [x, y, yaw, vx, vy, speed, yaw_rate, ax, ay, sideslip, steer] = self.body.map(|i| s[i]);
+        let [fz, fx, fy, slip_ratio, slip_angle, wheel_speed] =
+            self.wheel.map(|idx| idx.map(|i| s[i]));
+        TickState {
+            time: t,
+            x,
+            y,
+            yaw,
+            vx,
+            vy,
+            speed,
+            yaw_rate,
+            ax,
+            ay,
+            sideslip,
+            steer,
+            fz,
+            fx,
+            fy,
+            slip_ratio,
+            slip_angle,
+            wheel_speed,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every quantity of the view is a recorded channel.
+    #[test]
+    fn every_view_quantity_is_a_channel() {
+        let index = ViewIndex::new((0.0, 0.0, 0.0)).unwrap();
+        let mut s: Sample = [0.0; crate::sim::N_CHANNELS];
+        for (i, v) in s.iter_mut().enumerate() {
+            *v = i as f64;
+        }
+        let names: Vec<String> = channel_list().into_iter().map(|(n, ..)| n).collect();
+        let view = index.read(1.5, &s);
+        assert_eq!(view.time, 1.5);
+        assert_eq!(names[view.sideslip as usize], "sideslip");
+        assert_eq!(names[view.steer as usize], "steer_wheel_angle");
+        assert_eq!(names[view.fz[2] as usize], "fz_rear_left");
+        assert_eq!(
+            names[view.wheel_speed[1] as usize],
+            "wheel_speed_front_right"
+        );
+        assert_eq!(view.quantity("lat_accel"), Some(view.ay));
+        assert_eq!(view.quantity("roll"), None);
+    }
+}
