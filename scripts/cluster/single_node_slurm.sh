@@ -21,7 +21,7 @@
 # configuration it only waits for the node. Exit status 0 ready, 1 not.
 set -euo pipefail
 
-DIR=${SLURM_LOCAL_DIR:-${XDG_STATE_HOME:-$HOME/.local/state}/yawdyn-slurm}
+DIR=${SLURM_LOCAL_DIR:-${XDG_STATE_HOME:-~/.local/state}/yawdyn-slurm}
 CONF=$DIR/slurm.conf
 export SLURM_CONF=$CONF
 
