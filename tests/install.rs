@@ -59,6 +59,47 @@ fn setup_without_hdf5_names_the_install_command_for_each_system() {
     assert_eq!(paragraph.trim().lines().count(), 1, "{paragraph}");
 }
 
+/// Where it may install (root; here a stand-in `apt-get` and `id` first on
+/// PATH, so the test machine is not touched), a missing HDF5 is installed with
+/// the distribution's package manager before anything else is tried.
+#[test]
+fn setup_installs_hdf5_with_the_package_manager_when_it_may() {
+    use std::os::unix::fs::PermissionsExt;
+    let dir = tempfile::tempdir().unwrap();
+    let bin = dir.path().join("bin");
+    std::fs::create_dir(&bin).unwrap();
+    let log = dir.path().join("apt.log");
+    let stubs = [
+        ("id", "#!/bin/sh\necho 0\n".to_string()),
+        (
+            "apt-get",
+            format!("#!/bin/sh\necho \"$*\" >> '{}'\n", log.display()),
+        ),
+    ];
+    for (name, body) in stubs {
+        let path = bin.join(name);
+        std::fs::write(&path, body).unwrap();
+        std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o755)).unwrap();
+    }
+    let path = format!("{}:{}", bin.display(), std::env::var("PATH").unwrap());
+    let o = Command::new("sh")
+        .arg(repo("setup.sh"))
+        .arg("deps")
+        .env("PATH", path)
+        .env("YAWDYN_SETUP_PRETEND_MISSING", "hdf5 cmake")
+        .output()
+        .expect("run sh setup.sh");
+    // The stand-in installs nothing, so the check after it still fails.
+    assert_eq!(o.status.code(), Some(1), "{}", text(&o));
+    let calls = std::fs::read_to_string(&log).unwrap_or_default();
+    assert!(calls.contains("update"), "no apt-get update:\n{calls}");
+    assert!(
+        calls.contains("install -y -qq libhdf5-dev pkg-config"),
+        "HDF5 not installed with apt-get:\n{calls}\n{}",
+        text(&o)
+    );
+}
+
 /// Missing Rust toolchain: the same kind of message, naming rustup and the packages.
 #[test]
 fn setup_without_cargo_names_how_to_get_it() {

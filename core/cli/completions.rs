@@ -55,7 +55,9 @@ pub fn run_manpage(_args: ManpageArgs) -> anyhow::Result<Outcome> {
     man.render_extra_section(&mut page)?;
     man.render_version_section(&mut page)?;
     let mut out = std::io::stdout().lock();
-    out.write_all(&page)?;
+    // clap_mangen heads the after-help text "EXTRA"; "NOTES" is the man-page custom.
+    let page = String::from_utf8_lossy(&page).replace("EXTRA\n", "NOTES\n");
+    out.write_all(page.as_bytes())?;
     out.flush()?;
     Ok(Outcome::Success)
 }
@@ -64,14 +66,15 @@ pub fn run_manpage(_args: ManpageArgs) -> anyhow::Result<Outcome> {
 fn write_subcommand(page: &mut Vec<u8>, sub: &clap::Command) -> std::io::Result<()> {
     let name = sub.get_name();
     writeln!(page, ".SH \"COMMAND: yawdyn {name}\"")?;
-    let sub = sub.clone().name(format!("yawdyn {name}"));
-    let man = clap_mangen::Man::new(sub);
+    let man = clap_mangen::Man::new(sub.clone().name(format!("yawdyn {name}")));
     // Each render_* writes its own .SH heading; demote them to sub-headings.
     let mut part = Vec::new();
     man.render_synopsis_section(&mut part)?;
     man.render_description_section(&mut part)?;
     man.render_options_section(&mut part)?;
-    man.render_extra_section(&mut part)?;
+    if sub.get_after_help().is_some() || sub.get_after_long_help().is_some() {
+        man.render_extra_section(&mut part)?;
+    }
     let text = String::from_utf8_lossy(&part).replace(".SH ", ".SS ");
     page.extend_from_slice(text.as_bytes());
     Ok(())
