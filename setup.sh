@@ -150,6 +150,7 @@ cmake_ok() {
     fi
     command -v cmake >/dev/null 2>&1 || return 1
     version=$(cmake --version | sed -n 's/^cmake version \([0-9]*\)\.\([0-9]*\).*/\1 \2/p')
+    # shellcheck disable=SC2086 # split "MAJOR MINOR" into two words
     set -- $version
     [ "$#" -eq 2 ] || return 1
     [ "$1" -gt "$CMAKE_MIN_MAJOR" ] || { [ "$1" -eq "$CMAKE_MIN_MAJOR" ] && [ "$2" -ge "$CMAKE_MIN_MINOR" ]; }
@@ -296,7 +297,7 @@ case "${1:-demo}" in
     demo) demo ;;
     deps) prerequisites ;;
     release) release ;;
-    -h | --help) sed -n '2,26p' "$0" | sed 's/^# \{0,1\}//' ;;
+    -h | --help) sed -n '2,25p' "$0" | sed 's/^# \{0,1\}//' ;;
     *)
         say "unknown action '$1' (use: demo, deps, release)"
         exit 2
