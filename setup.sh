@@ -202,7 +202,11 @@ prerequisites() {
     need_cargo
     need_cc
     need_hdf5
-    say "prerequisites present (HDF5: ${FEATURES:+bundled, static}${FEATURES:-system library})"
+    if [ -n "$FEATURES" ]; then
+        say "prerequisites present (HDF5: built from the bundled source, linked statically)"
+    else
+        say "prerequisites present (HDF5: system library)"
+    fi
 }
 
 # --- actions -----------------------------------------------------------------
@@ -221,7 +225,12 @@ demo() {
         --metric path_radius_growth_ratio_2s --by manoeuvre.lat_accel \
         --out results/torque_split_same_torque.svg
     say "done: results/torque_split_same_torque.h5 and results/torque_split_same_torque.svg"
-    say "next: cargo test (the tests), or cargo install --path . (puts yawdyn on PATH)"
+    if [ -n "$FEATURES" ]; then
+        # Without a system HDF5 every cargo command needs the same feature.
+        say "next: cargo test --features static-hdf5 (the tests), or cargo install --path . --features static-hdf5"
+    else
+        say "next: cargo test (the tests), or cargo install --path . (puts yawdyn on PATH)"
+    fi
 }
 
 release() {
