@@ -16,6 +16,7 @@
 #![warn(missing_docs)]
 
 pub mod analysis;
+pub mod assets;
 pub mod bench;
 pub mod check;
 pub mod error;

@@ -3,6 +3,7 @@
 
 use std::path::PathBuf;
 
+use yawdyn::assets::resolve_vehicle;
 use yawdyn::params::load_vehicle;
 use yawdyn::table::{Table, fmt_num};
 
@@ -11,8 +12,9 @@ use super::{Outcome, parse_overrides};
 /// Arguments of `yawdyn bench`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Vehicle file. Default: the demo hybrid crossover.
-    #[arg(default_value = "scripts/vehicles/hybrid_crossover.toml")]
+    /// Vehicle file, or the name of a demo vehicle. Default: the demo hybrid
+    /// crossover (shipped inside yawdyn, so bench runs from any folder).
+    #[arg(default_value = "hybrid_crossover")]
     vehicle: PathBuf,
     /// Steering-wheel angle for the constant-steer run, deg.
     #[arg(long, default_value_t = 30.0)]
@@ -26,7 +28,8 @@ pub struct Args {
 }
 
 /// Runs `yawdyn bench`.
-pub fn run(args: Args) -> anyhow::Result<Outcome> {
+pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
+    args.vehicle = resolve_vehicle(&args.vehicle)?;
     let overrides = parse_overrides(&args.sets)?;
     let vehicle = load_vehicle(&args.vehicle, &overrides)?;
     let report = yawdyn::bench::run(&vehicle, args.steer_deg.to_radians())?;

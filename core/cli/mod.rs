@@ -4,6 +4,7 @@
 
 mod bench;
 mod check;
+mod completions;
 mod merge;
 mod plot;
 mod run;
@@ -12,7 +13,7 @@ mod stability;
 mod sweep;
 mod vehicle;
 
-use clap::{Parser, Subcommand};
+use clap::{CommandFactory, FromArgMatches, Parser, Subcommand};
 
 /// How a command ended when it did not fail on bad input.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -84,6 +85,24 @@ fn version() -> &'static str {
     )
 }
 
+/// `yawdyn --version` (long): version, commit, build date, target and the
+/// version of the HDF5 library in use (read from the library at run time).
+fn long_version() -> String {
+    let (major, minor, micro) = hdf5::library_version();
+    let linkage = if cfg!(feature = "static-hdf5") {
+        "static, built in"
+    } else {
+        "shared library"
+    };
+    format!(
+        "{}\ncommit:     {}\nbuild date: {}\ntarget:     {}\nHDF5:       {major}.{minor}.{micro} ({linkage})",
+        env!("CARGO_PKG_VERSION"),
+        env!("YAWDYN_GIT_REVISION"),
+        env!("YAWDYN_BUILD_DATE"),
+        env!("YAWDYN_TARGET"),
+    )
+}
+
 #[derive(Debug, Subcommand)]
 enum Command {
     /// Check a vehicle file and print its derived quantities.
@@ -108,11 +127,23 @@ enum Command {
     Sweep(sweep::Args),
     /// Join the shard files of one sweep into the file an unsharded run gives.
     Merge(merge::Args),
+    /// Print a shell completion script (bash, zsh, fish, elvish, powershell).
+    Completions(completions::CompletionsArgs),
+    /// Print the manual page (roff), e.g. `yawdyn manpage > yawdyn.1`.
+    Manpage(completions::ManpageArgs),
 }
 
 /// Parses the command line and runs the subcommand.
 pub fn run() -> anyhow::Result<Outcome> {
-    let cli = match Cli::try_parse() {
+    let mut command = Cli::command();
+    // The long version asks the HDF5 library for its version: only when wanted.
+    if std::env::args_os().any(|a| a == "--version") {
+        command = command.long_version(long_version());
+    }
+    let parsed = command
+        .try_get_matches()
+        .and_then(|mut matches| Cli::from_arg_matches_mut(&mut matches));
+    let cli = match parsed {
         Ok(cli) => cli,
         Err(e) => {
             // --help and --version are successes; everything else is bad input.
@@ -137,6 +168,8 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Show(args) => show::run(args),
         Command::Sweep(args) => sweep::run(args),
         Command::Merge(args) => merge::run(args),
+        Command::Completions(args) => completions::run_completions(args),
+        Command::Manpage(args) => completions::run_manpage(args),
     }
 }
 

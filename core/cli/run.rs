@@ -7,6 +7,7 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 
 use anyhow::Context;
+use yawdyn::assets::{resolve_script, resolve_vehicle};
 use yawdyn::results::{self, RunRecord, RunStatus};
 use yawdyn::script::{RunOptions, run_script};
 use yawdyn::table::{Table, fmt_num};
@@ -23,9 +24,11 @@ use super::{Outcome, parse_overrides};
 file is written whenever the run produced data, also when it failed (status `failed`)."
 )]
 pub struct Args {
-    /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai.
+    /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai, or the name of a
+    /// shipped script (`step_steer`), found wherever yawdyn runs.
     script: PathBuf,
-    /// Vehicle parameter file (TOML) to use instead of the script's own.
+    /// Vehicle parameter file (TOML) to use instead of the script's own, or the
+    /// name of a demo vehicle (`track_car`).
     #[arg(long, value_name = "FILE")]
     vehicle: Option<PathBuf>,
     /// Override a vehicle parameter by dotted path, e.g. `--set drive.front_share=0.3`
@@ -45,7 +48,9 @@ pub struct Args {
 }
 
 /// Runs `yawdyn run`.
-pub fn run(args: Args) -> anyhow::Result<Outcome> {
+pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
+    args.script = resolve_script(&args.script)?;
+    args.vehicle = args.vehicle.map(|v| resolve_vehicle(&v)).transpose()?;
     let overrides = parse_overrides(&args.sets)?;
     let out = args
         .out

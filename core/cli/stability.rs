@@ -8,6 +8,7 @@ use std::time::Instant;
 
 use rayon::prelude::*;
 use serde_json::{Value, json};
+use yawdyn::assets::resolve_vehicle;
 use yawdyn::model::WHEEL_NAMES;
 use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle_text};
 use yawdyn::plot::{Axis, HeatMap, heat_map};
@@ -22,7 +23,7 @@ use super::{Outcome, bad_input, parse_overrides};
 /// Arguments of `yawdyn stability`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Vehicle parameter file (TOML).
+    /// Vehicle parameter file (TOML), or the name of a demo vehicle (`hybrid_crossover`).
     vehicle: PathBuf,
     /// Forward speed, km/h (required unless varied).
     #[arg(long)]
@@ -177,7 +178,8 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
 }
 
 /// Runs `yawdyn stability`.
-pub fn run(args: Args) -> anyhow::Result<Outcome> {
+pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
+    args.vehicle = resolve_vehicle(&args.vehicle)?;
     let overrides = parse_overrides(&args.sets)?;
     let text = std::fs::read_to_string(&args.vehicle).map_err(|e| {
         bad_input(format!(

@@ -6,6 +6,7 @@ use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
 use indicatif::{ProgressBar, ProgressStyle};
+use yawdyn::assets::{resolve_script, resolve_vehicle};
 use yawdyn::params::{Override, ParamError};
 use yawdyn::results::RunRecord;
 use yawdyn::script::{RunOptions, ScriptError, check_manoeuvre_keys, run_script};
@@ -26,14 +27,14 @@ const MAX_MESSAGE: usize = 60;
 /// Arguments of `yawdyn sweep`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Manoeuvre script (.rhai).
+    /// Manoeuvre script (.rhai), or the name of a shipped script (`power_on_exit`).
     script: PathBuf,
     /// Varied parameter: dotted vehicle key (or `manoeuvre.<name>`), first value, last value, number
     /// of values (≥ 1), e.g. `drive.front_share=0:1:11`. Repeatable; the grid
     /// is full factorial with the first --vary varying slowest.
     #[arg(long = "vary", value_name = "KEY=START:STOP:COUNT")]
     vary: Vec<String>,
-    /// Vehicle file replacing the script's own.
+    /// Vehicle file replacing the script's own, or the name of a demo vehicle.
     #[arg(long)]
     vehicle: Option<PathBuf>,
     /// Override a vehicle parameter (or a `manoeuvre.<name>` parameter) in every
@@ -70,7 +71,9 @@ struct Config {
 }
 
 /// Runs `yawdyn sweep`.
-pub fn run(args: Args) -> anyhow::Result<Outcome> {
+pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
+    args.script = resolve_script(&args.script)?;
+    args.vehicle = args.vehicle.map(|v| resolve_vehicle(&v)).transpose()?;
     let config = check(args)?;
     // Every manoeuvre.* key is a parameter the script reads (bad input before any case).
     let keys = config.spec.grid.keys();

@@ -3,6 +3,7 @@
 
 use std::path::PathBuf;
 
+use yawdyn::assets::resolve_vehicle;
 use yawdyn::model::linear::summarize;
 use yawdyn::params::load_vehicle;
 use yawdyn::table::{Table, fmt_num};
@@ -12,7 +13,7 @@ use super::{Outcome, parse_overrides};
 /// Arguments of `yawdyn vehicle`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Vehicle parameter file (TOML).
+    /// Vehicle parameter file (TOML), or the name of a demo vehicle (`track_car`).
     file: PathBuf,
     /// Override a parameter by dotted path, e.g. `--set drive.front_share=0.3` (repeatable).
     #[arg(long = "set", value_name = "KEY=VALUE")]
@@ -23,7 +24,8 @@ pub struct Args {
 }
 
 /// Runs `yawdyn vehicle`.
-pub fn run(args: Args) -> anyhow::Result<Outcome> {
+pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
+    args.file = resolve_vehicle(&args.file)?;
     let overrides = parse_overrides(&args.sets)?;
     let vehicle = load_vehicle(&args.file, &overrides)?;
     let s = summarize(&vehicle);

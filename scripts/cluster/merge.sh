@@ -12,4 +12,5 @@ set -euo pipefail
 OUTDIR=${OUTDIR:-results/sweep_shards}
 OUT=${OUT:-results/power_on_exit_sweep.h5}
 SHARDS=${SHARDS:?set SHARDS to the number of shards (submit_sweep.sh does)}
-yawdyn merge "$OUT" "$OUTDIR"/shard_*_of_"$SHARDS".h5
+mkdir -p "$(dirname "$OUT")"
+"${YAWDYN:-yawdyn}" merge "$OUT" "$OUTDIR"/shard_*_of_"$SHARDS".h5

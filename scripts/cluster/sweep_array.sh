@@ -16,11 +16,13 @@
 
 set -euo pipefail
 
-# --- what to sweep (edit here) -----------------------------------------------
+# --- what to sweep (edit here, or set these variables when submitting) ------
+# Words separated by spaces; each VARY word becomes one --vary, each SET word
+# one --set. Every task of the array must see the same values.
 SCRIPT=${SCRIPT:-scripts/power_on_exit.rhai}
-VARY=(--vary drive.front_share=0:1:40 --vary road.friction=0.5:1.0:25)
-SETS=()                                   # e.g. (--set chassis.mass=1900)
-CHANNELS=(--channels yaw_rate,sideslip,ay,speed)
+VARY=${VARY:-"drive.front_share=0:1:40 road.friction=0.5:1.0:25"}
+SETS=${SETS:-}                            # e.g. "chassis.mass=1900 drive.front_share=0.3"
+CHANNELS=${CHANNELS:-yaw_rate,sideslip,ay,speed}
 OUTDIR=${OUTDIR:-results/sweep_shards}
 # ------------------------------------------------------------------------------
 
@@ -32,13 +34,19 @@ if [ "$K" -lt 1 ] || [ "$K" -gt "$N" ]; then
 fi
 mkdir -p "$OUTDIR"
 
+# The command as one array, never empty (an empty "${a[@]}" under set -u is an
+# error in bash before 4.4).
+args=(sweep "$SCRIPT")
+for v in $VARY; do args+=(--vary "$v"); done
+for s in $SETS; do args+=(--set "$s"); done
+args+=(--channels "$CHANNELS" --jobs "${SLURM_CPUS_PER_TASK:-1}" --shard "$K/$N" --quiet
+    --out "$OUTDIR/shard_${K}_of_${N}.h5")
+
 # Exit code 1 means some cases failed or missed a criterion: the shard file is
 # still complete and must be merged, so only exit code 2 (bad input) and
 # crashes fail the task.
 status=0
-yawdyn sweep "$SCRIPT" "${VARY[@]}" "${SETS[@]}" "${CHANNELS[@]}" \
-    --jobs "${SLURM_CPUS_PER_TASK:-1}" --shard "$K/$N" --quiet \
-    --out "$OUTDIR/shard_${K}_of_${N}.h5" || status=$?
+"${YAWDYN:-yawdyn}" "${args[@]}" || status=$?
 if [ "$status" -ge 2 ]; then
     exit "$status"
 fi
