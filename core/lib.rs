@@ -22,6 +22,7 @@ pub mod manoeuvre;
 pub mod model;
 pub mod params;
 pub mod plot;
+pub mod quasi_static;
 pub mod results;
 pub mod sim;
 pub mod stability;
