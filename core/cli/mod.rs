@@ -4,13 +4,17 @@
 
 mod bench;
 mod check;
+mod gg_envelope;
 mod merge;
 mod plot;
 mod run;
 mod show;
 mod stability;
 mod sweep;
+mod tyre;
+mod values;
 mod vehicle;
+mod yaw_moment;
 
 use clap::{Parser, Subcommand};
 
@@ -44,8 +48,22 @@ pub fn bad_input(message: impl Into<String>) -> anyhow::Error {
 /// Exit code for an error: 2 for bad input (options, parameter files,
 /// scripts), 1 for anything else.
 pub fn exit_code(err: &anyhow::Error) -> u8 {
+    use yawdyn::error::{Classify, ErrorKind};
+    let classified_bad = |c: &(dyn std::error::Error + 'static)| {
+        let kind = c
+            .downcast_ref::<yawdyn::quasi_static::QuasiStaticError>()
+            .map(Classify::kind)
+            .or_else(|| {
+                c.downcast_ref::<yawdyn::tyre::inspect::InspectError>()
+                    .map(Classify::kind)
+            });
+        kind == Some(ErrorKind::BadInput)
+    };
     let bad = err.chain().any(|c| {
-        c.is::<BadInput>() || c.is::<yawdyn::params::ParamError>() || c.is::<clap::Error>()
+        c.is::<BadInput>()
+            || c.is::<yawdyn::params::ParamError>()
+            || c.is::<clap::Error>()
+            || classified_bad(c)
     });
     if bad { 2 } else { 1 }
 }
@@ -99,6 +117,17 @@ enum Command {
     Sweep(sweep::Args),
     /// Join the shard files of one sweep into the file an unsharded run gives.
     Merge(merge::Args),
+    /// Yaw-moment diagram (moment method) at one speed: residual yaw moment
+    /// over a grid of sideslip and steer, trim limit and limit balance.
+    ///
+    /// Exit codes: 0 success; 1 no trim or no limit found; 2 bad input.
+    YawMoment(yaw_moment::Args),
+    /// g-g-V envelope: the largest quasi-steady accelerations with zero yaw moment at each speed.
+    ///
+    /// Exit codes: 0 success; 1 a direction could not be solved; 2 bad input.
+    GgEnvelope(gg_envelope::Args),
+    /// Inspect the tyres of a vehicle file: curves, peak friction, stiffness against load.
+    Tyre(tyre::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -128,6 +157,9 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Show(args) => show::run(args),
         Command::Sweep(args) => sweep::run(args),
         Command::Merge(args) => merge::run(args),
+        Command::YawMoment(args) => yaw_moment::run(args),
+        Command::GgEnvelope(args) => gg_envelope::run(args),
+        Command::Tyre(args) => tyre::run(args),
     }
 }
 
