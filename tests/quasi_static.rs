@@ -138,7 +138,9 @@ fn gg_envelope_writes_file_plot_and_json() {
 fn tyre_writes_plots_csv_and_json() {
     let dir = TempDir::new();
     let car = vehicle("track_car");
-    let out = dir.yawdyn(["tyre", &car, "--axle", "rear", "--out", "tyres", "--json"]);
+    let out = dir.yawdyn([
+        "tyre", &car, "--axle", "rear", "--out", "tyres", "--plot", "tyres", "--json",
+    ]);
     out.expect_code(0);
     let v = json(&out.stdout);
     let rear = &v["axles"][0];

@@ -1,6 +1,6 @@
 //! `yawdyn tyre VEHICLE [--axle front|rear] [...]`: inspect the tyres of a
 //! vehicle file with the force function the model uses: key figures, or
-//! `--json`; curves as SVG and CSV files with `--out DIR`.
+//! `--json`; curves as CSV files (`--out DIR`) and SVG plots (`--plot DIR`).
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -46,9 +46,13 @@ pub struct Args {
     /// Override a parameter by dotted path (repeatable), e.g. `--set tyre.front.camber_deg=0`.
     #[arg(long = "set", value_name = "KEY=VALUE")]
     sets: Vec<String>,
-    /// Write SVG plots and CSV files of the curves into this directory.
+    /// Write the curves and the load dependence as CSV files into this
+    /// directory (`tyre_<axle>_curves.csv`, `tyre_<axle>_load.csv`).
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
+    /// Draw the curves as SVG files into this directory (`tyre_<axle>_*.svg`).
+    #[arg(long, value_name = "DIR")]
+    plot: Option<PathBuf>,
     /// Print JSON (key figures and every curve) instead of tables.
     #[arg(long)]
     json: bool,
@@ -121,9 +125,12 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         });
     }
     let elapsed = started.elapsed().as_secs_f64();
-    if let Some(dir) = &args.out {
-        for i in &inspected {
-            write_files(dir, &vehicle, i)?;
+    for i in &inspected {
+        if let Some(dir) = &args.out {
+            write_csv(dir, i)?;
+        }
+        if let Some(dir) = &args.plot {
+            write_plots(dir, &vehicle, i)?;
         }
     }
     if args.json {
@@ -237,13 +244,30 @@ fn axle_json(i: &Inspected) -> Value {
     })
 }
 
-/// Writes the SVG plots and CSV files of one axle into `dir`.
-fn write_files(dir: &Path, v: &Vehicle, i: &Inspected) -> anyhow::Result<()> {
+/// `dir/tyre_<axle>_<stem>.<ext>`, creating `dir`.
+fn output(dir: &Path, axle: usize, stem: &str, ext: &str) -> anyhow::Result<PathBuf> {
     std::fs::create_dir_all(dir).with_context(|| format!("creating {}", dir.display()))?;
+    Ok(dir.join(format!("tyre_{}_{stem}.{ext}", axle_name(axle))))
+}
+
+/// Writes the CSV files of one axle into `dir`.
+fn write_csv(dir: &Path, i: &Inspected) -> anyhow::Result<()> {
+    let write = |path: PathBuf, text: String| {
+        std::fs::write(&path, text).with_context(|| format!("writing {}", path.display()))
+    };
+    write(
+        output(dir, i.axle, "curves", "csv")?,
+        i.report.curves_csv(i.setup.method),
+    )?;
+    write(output(dir, i.axle, "load", "csv")?, i.report.load_csv())
+}
+
+/// Writes the SVG plots of one axle into `dir`.
+fn write_plots(dir: &Path, v: &Vehicle, i: &Inspected) -> anyhow::Result<()> {
     let axle = axle_name(i.axle);
     let name = short_name(&v.name);
     let r = &i.report;
-    let file = |stem: &str, ext: &str| dir.join(format!("tyre_{axle}_{stem}.{ext}"));
+    let file = |stem: &str, ext: &str| output(dir, i.axle, stem, ext);
     let kn = |f: &[f64]| f.iter().map(|x| x / 1000.0).collect::<Vec<_>>();
     let per_load = |curves: &[yawdyn::tyre::inspect::SlipCurve], angle: bool| {
         curves
@@ -263,14 +287,14 @@ fn write_files(dir: &Path, v: &Vehicle, i: &Inspected) -> anyhow::Result<()> {
             .collect::<Vec<_>>()
     };
     lines(
-        &file("longitudinal", "svg"),
+        &file("longitudinal", "svg")?,
         &format!("{name}, {axle} tyre: Fx at zero slip angle"),
         &Axis::new("slip ratio [1]"),
         &Axis::new("longitudinal force Fx [kN]"),
         &per_load(&r.longitudinal, false),
     )?;
     lines(
-        &file("lateral", "svg"),
+        &file("lateral", "svg")?,
         &format!("{name}, {axle} tyre: Fy at zero slip ratio"),
         &Axis::new("slip angle [deg]"),
         &Axis::new("lateral force Fy [kN]"),
@@ -291,7 +315,7 @@ fn write_files(dir: &Path, v: &Vehicle, i: &Inspected) -> anyhow::Result<()> {
             .collect();
         let load = r.combined.first().map_or(0.0, |c| c.load);
         lines(
-            &file(&format!("combined_{}", method_name(method)), "svg"),
+            &file(&format!("combined_{}", method_name(method)), "svg")?,
             &format!(
                 "{axle} tyre, {}: Fy against Fx, Fz {} kN",
                 method_name(method).replace('_', " "),
@@ -330,15 +354,10 @@ fn write_files(dir: &Path, v: &Vehicle, i: &Inspected) -> anyhow::Result<()> {
         ),
     ];
     stacked(
-        &file("load", "svg"),
+        &file("load", "svg")?,
         &format!("{name}, {axle} tyre: peak friction and stiffness against load"),
         &Axis::new("wheel load [kN]"),
         &panels,
     )?;
-    let write = |path: PathBuf, text: String| {
-        std::fs::write(&path, text).with_context(|| format!("writing {}", path.display()))
-    };
-    write(file("curves", "csv"), r.curves_csv(i.setup.method))?;
-    write(file("load", "csv"), r.load_csv())?;
     Ok(())
 }

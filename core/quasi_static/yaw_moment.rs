@@ -45,6 +45,9 @@ pub struct DiagramSettings {
     /// Halvings of a grid step allowed when a point does not solve from its
     /// neighbour directly. Default 4 (down to 1/16 of the step).
     pub substep_depth: u32,
+    /// Halvings of the step when an unsolved point is retried from a solved
+    /// neighbour after the walk. Default 2.
+    pub fill_depth: u32,
     /// Step of the central differences for the derivatives at trim points, rad. Default 1e-4.
     pub derivative_step: f64,
     /// Resolution of the trim limit, m/s². Default 0.005 (the stability trim's).
@@ -62,6 +65,7 @@ impl Default for DiagramSettings {
         Self {
             solve: SolveSettings::default(),
             substep_depth: 4,
+            fill_depth: 2,
             derivative_step: 1e-4,
             limit_resolution: 0.005,
             limit_step: 0.5,
@@ -172,8 +176,10 @@ impl YawMomentDiagram {
 ///
 /// Points are found by stepping out from the grid point nearest β = δ = 0,
 /// first along the steer column, then along each steer row (rows in parallel,
-/// each from its own column point, so the result does not depend on the
-/// thread count). A point that does not solve is left as NaN.
+/// each from its own column point), then by retrying unsolved points from
+/// solved neighbours; the result does not depend on the thread count. A
+/// point that does not solve is left as NaN: no equilibrium was found there
+/// (typically a driven wheel that cannot react its torque and spins up).
 ///
 /// Errors: bad grids or condition ([`QuasiStaticError::InvalidInput`],
 /// [`QuasiStaticError::InvalidGrid`]); [`QuasiStaticError::NoStart`] when the
@@ -359,7 +365,71 @@ fn grid_points(
             row
         })
         .collect();
-    Ok(rows.into_iter().flatten().collect())
+    let mut points: Vec<Option<Point>> = rows.into_iter().flatten().collect();
+    fill_holes(base, sideslip, steer, &mut points, settings);
+    Ok(points)
+}
+
+/// Grid neighbours of point `k` (left, right, below, above) on an
+/// `nb` × `nd` grid.
+fn neighbours(k: usize, nb: usize, nd: usize) -> impl Iterator<Item = usize> {
+    let (i, j) = (k % nb, k / nb);
+    [
+        (i > 0).then(|| k - 1),
+        (i + 1 < nb).then_some(k + 1),
+        (j > 0).then(|| k - nb),
+        (j + 1 < nd).then_some(k + nb),
+    ]
+    .into_iter()
+    .flatten()
+}
+
+/// Retries unsolved points from their solved neighbours (any direction,
+/// [`DiagramSettings::fill_depth`] halvings), pass after pass, each pass only
+/// at points next to one solved in the pass before. Each pass reads the grid
+/// as the previous pass left it, so the result does not depend on threads.
+fn fill_holes(
+    base: &Problem<'_>,
+    sideslip: &[f64],
+    steer: &[f64],
+    points: &mut [Option<Point>],
+    settings: &DiagramSettings,
+) {
+    let (nb, nd) = (sideslip.len(), steer.len());
+    let at = |k: usize| (sideslip[k % nb], steer[k / nb]);
+    let mut frontier: Vec<usize> = (0..points.len())
+        .filter(|&k| points[k].is_none() && neighbours(k, nb, nd).any(|n| points[n].is_some()))
+        .collect();
+    while !frontier.is_empty() {
+        let grid: &[Option<Point>] = points;
+        let found: Vec<(usize, Point)> = frontier
+            .par_iter()
+            .filter_map(|&k| {
+                neighbours(k, nb, nd).find_map(|n| {
+                    let from = grid[n].as_ref()?;
+                    reach(
+                        base,
+                        from,
+                        at(n),
+                        at(k),
+                        &from.seed,
+                        settings,
+                        settings.fill_depth,
+                    )
+                    .map(|p| (k, p))
+                })
+            })
+            .collect();
+        let mut next: Vec<usize> = Vec::new();
+        for (k, p) in found {
+            points[k] = Some(p);
+            next.extend(neighbours(k, nb, nd));
+        }
+        next.sort_unstable();
+        next.dedup();
+        next.retain(|&k| points[k].is_none());
+        frontier = next;
+    }
 }
 
 /// The trim point of each steer row on the turn side (and the straight row):
