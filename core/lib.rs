@@ -9,6 +9,8 @@
 //! parameters ([`params`]) → tyre ([`tyre`]) → vehicle model ([`model`]) →
 //! integration ([`sim`]) → manoeuvre scripts and drivers ([`manoeuvre`]) →
 //! results files ([`results`]) → analysis ([`analysis`]) → plots ([`plot`]).
+//! Beside integration, [`stability`] and [`quasi_static`] (yaw-moment
+//! diagrams, the g-g-V envelope) solve equilibria of the same model.
 //!
 //! Axes follow ISO 8855: x forward, y left, z up; all quantities are SI unless
 //! a name says otherwise (`_deg`, `_kph`).

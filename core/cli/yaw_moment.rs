@@ -300,9 +300,10 @@ fn figure(d: &YawMomentDiagram) -> YawMomentFigure {
     };
     let range = |v: &[f64]| {
         format!(
-            "{} to {} deg",
+            "{} to {} deg, {} lines",
             fmt_num(v[0].to_degrees(), 3),
-            fmt_num(v[v.len() - 1].to_degrees(), 3)
+            fmt_num(v[v.len() - 1].to_degrees(), 3),
+            v.len()
         )
     };
     YawMomentFigure {
