@@ -10,7 +10,9 @@ use serde_json::{Value, json};
 use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle};
 use yawdyn::plot::{Series, gg_envelope};
 use yawdyn::quasi_static::file::FileInfo;
-use yawdyn::quasi_static::{Envelope, EnvelopeSettings, LimitKind, envelope, write_envelope};
+use yawdyn::quasi_static::{
+    Envelope, EnvelopeSettings, LimitKind, envelope_at_speed, write_envelope,
+};
 use yawdyn::table::{Table, fmt_num};
 
 use super::values::parse_values;
@@ -66,7 +68,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .par_iter()
         .map(|kph| {
             let t = Instant::now();
-            let envelope = envelope(&vehicle, kph / 3.6, share, &settings)?;
+            let envelope = envelope_at_speed(&vehicle, kph / 3.6, share, &settings)?;
             Ok(Timed {
                 envelope,
                 seconds: t.elapsed().as_secs_f64(),

@@ -130,8 +130,9 @@ pub enum Longitudinal {
     /// No drive torque and no brake; v̇x follows (drag, rolling resistance and
     /// the tyres' own drag decelerate the car).
     FreeRolling,
-    /// Total drive torque at the wheels, N·m (≥ 0), split by the front share;
-    /// v̇x follows.
+    /// Total drive torque at the wheels, N·m (≥ 0), split by the front share
+    /// (each axle's part capped, as in the model, at what its unit can give at
+    /// that wheel speed); v̇x follows.
     DriveTorque(f64),
     /// Rate of change of the forward speed v̇x, m/s²; the command is solved:
     /// drive torque (split by the front share) or brake torque (brake bias).

@@ -12,9 +12,9 @@
 //! - [`yaw_moment`]: a grid of sideslip and steer, the residual yaw moment
 //!   against lateral acceleration, the trim line and the figures derived from
 //!   it (Milliken & Milliken, *Race Car Vehicle Dynamics*, SAE 1995, ch. 8);
-//! - [`envelope`]: the boundary of quasi-steady (a_x, a_y) with zero yaw
+//! - [`mod@envelope`]: the boundary of quasi-steady (a_x, a_y) with zero yaw
 //!   moment at a set of speeds;
-//! - [`file`]: their HDF5 files.
+//! - [`mod@file`]: their HDF5 files.
 //!
 //! It does not integrate in time, run scripts or draw plots. The vehicle's
 //! parameters are read in one place ([`chassis`]) besides the model itself and
@@ -26,7 +26,7 @@ pub mod file;
 pub mod yaw_moment;
 
 pub use envelope::{
-    Envelope, EnvelopePoint, EnvelopeSettings, LimitKind, envelope, envelope_directions,
+    Envelope, EnvelopePoint, EnvelopeSettings, LimitKind, envelope_at_speed, envelope_directions,
 };
 pub use equilibrium::{
     Condition, Lateral, Longitudinal, MarchSettings, Point, Problem, SolveSettings, march_to_limit,

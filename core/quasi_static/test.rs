@@ -276,7 +276,7 @@ fn at_direction(e: &Envelope, deg: f64) -> &EnvelopePoint {
 fn envelope_lateral_extreme_is_the_largest_trim() {
     let v = vehicle(CROSSOVER, &[]);
     let speed = 50.0 / 3.6;
-    let e = envelope(&v, speed, v.front_share, &EnvelopeSettings::default()).unwrap();
+    let e = envelope_at_speed(&v, speed, v.front_share, &EnvelopeSettings::default()).unwrap();
     let largest = stability_limit(&v, speed);
     for (deg, sign) in [(90.0, 1.0), (270.0, -1.0)] {
         let p = at_direction(&e, deg);
@@ -314,7 +314,7 @@ const TRACTION: &[&str] = &[
 #[test]
 fn envelope_longitudinal_extremes_match_traction_limits() {
     let v = vehicle(TRACK_CAR, TRACTION);
-    let e = envelope(&v, 30.0 / 3.6, v.front_share, &EnvelopeSettings::default()).unwrap();
+    let e = envelope_at_speed(&v, 30.0 / 3.6, v.front_share, &EnvelopeSettings::default()).unwrap();
     let (l, h, a, b) = (v.wheelbase, v.cg_height, v.a, v.b);
     let mu = |axle: usize| v.tyres[axle].model.peak_friction(3000.0, v.road_friction).0;
     let (mu_f, mu_r) = (mu(0), mu(1));
@@ -355,7 +355,7 @@ fn downforce_grows_the_envelope_with_speed() {
     };
     let growth = |v: &Vehicle| {
         let reach = |kph: f64| {
-            let e = envelope(v, kph / 3.6, v.front_share, &settings).unwrap();
+            let e = envelope_at_speed(v, kph / 3.6, v.front_share, &settings).unwrap();
             (
                 at_direction(&e, 90.0).lat_accel,
                 -at_direction(&e, 180.0).long_accel,
@@ -414,7 +414,7 @@ fn files_carry_format_and_shapes() {
     };
     let envelopes: Vec<Envelope> = [40.0, 80.0]
         .iter()
-        .map(|kph| envelope(&v, kph / 3.6, v.front_share, &settings).unwrap())
+        .map(|kph| envelope_at_speed(&v, kph / 3.6, v.front_share, &settings).unwrap())
         .collect();
     let path = dir.path().join("gg.h5");
     write_envelope(&path, &envelopes, &info).unwrap();
