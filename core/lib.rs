@@ -10,6 +10,8 @@
 //! integration ([`sim`]) → signals and drivers ([`manoeuvre`]) → runs of
 //! manoeuvre scripts ([`script`]) →
 //! results files ([`results`]) → analysis ([`analysis`]) → plots ([`plot`]).
+//! Beside integration, [`stability`] and [`quasi_static`] (yaw-moment
+//! diagrams, the g-g-V envelope) solve equilibria of the same model.
 //!
 //! Axes follow ISO 8855: x forward, y left, z up; all quantities are SI unless
 //! a name says otherwise (`_deg`, `_kph`).
@@ -24,6 +26,7 @@ pub mod manoeuvre;
 pub mod model;
 pub mod params;
 pub mod plot;
+pub mod quasi_static;
 pub mod results;
 pub mod script;
 pub mod sim;

@@ -5,13 +5,17 @@
 mod bench;
 mod check;
 mod completions;
+mod gg_envelope;
 mod merge;
 mod plot;
 mod run;
 mod show;
 mod stability;
 mod sweep;
+mod tyre;
+mod values;
 mod vehicle;
+mod yaw_moment;
 
 use clap::{CommandFactory, FromArgMatches, Parser, Subcommand};
 
@@ -50,6 +54,14 @@ pub fn exit_code(err: &anyhow::Error) -> u8 {
     let classified = err.chain().find_map(|c| {
         c.downcast_ref::<yawdyn::script::ScriptError>()
             .map(|e| e.kind().exit_code())
+            .or_else(|| {
+                c.downcast_ref::<yawdyn::quasi_static::QuasiStaticError>()
+                    .map(|e| e.kind().exit_code())
+            })
+            .or_else(|| {
+                c.downcast_ref::<yawdyn::tyre::inspect::InspectError>()
+                    .map(|e| e.kind().exit_code())
+            })
     });
     if let Some(code) = classified {
         return code;
@@ -131,6 +143,17 @@ enum Command {
     Completions(completions::CompletionsArgs),
     /// Print the manual page (roff), e.g. `yawdyn manpage > yawdyn.1`.
     Manpage(completions::ManpageArgs),
+    /// Yaw-moment diagram (moment method) at one speed: residual yaw moment
+    /// over a grid of sideslip and steer, trim limit and limit balance.
+    ///
+    /// Exit codes: 0 success; 1 no trim or no limit found; 2 bad input.
+    YawMoment(yaw_moment::Args),
+    /// g-g-V envelope: the largest quasi-steady accelerations with zero yaw moment at each speed.
+    ///
+    /// Exit codes: 0 success; 1 a direction could not be solved; 2 bad input.
+    GgEnvelope(gg_envelope::Args),
+    /// Inspect the tyres of a vehicle file: curves, peak friction, stiffness against load.
+    Tyre(tyre::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -170,6 +193,9 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Merge(args) => merge::run(args),
         Command::Completions(args) => completions::run_completions(args),
         Command::Manpage(args) => completions::run_manpage(args),
+        Command::YawMoment(args) => yaw_moment::run(args),
+        Command::GgEnvelope(args) => gg_envelope::run(args),
+        Command::Tyre(args) => tyre::run(args),
     }
 }
 

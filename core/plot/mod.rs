@@ -48,6 +48,7 @@
 pub mod figures;
 mod heat_map;
 mod lines;
+mod quasi_static;
 mod style;
 mod vehicle;
 
@@ -55,6 +56,7 @@ use std::path::{Path, PathBuf};
 
 pub use heat_map::{HeatMap, heat_map};
 pub use lines::{lines, lines_with_markers, stacked};
+pub use quasi_static::{YawMomentFigure, gg_envelope, yaw_moment_diagram};
 pub use vehicle::{gg, handling_diagram};
 
 /// One named curve: paired x and y samples in the units of the plot's axes.

@@ -180,7 +180,18 @@ pub fn gg(
         zero_lines: true,
         margins: (MARGIN, MARGIN),
     };
-    style::write_svg(path, (760, 700), |root| {
+    write_square(path, (760, 700), title, &chart)
+}
+
+/// Writes `chart` under `title` on a canvas of `size` px with a square plot
+/// area, so that equal x and y ranges give equal scales (a circle looks round).
+pub(crate) fn write_square(
+    path: &Path,
+    size: (u32, u32),
+    title: &str,
+    chart: &Chart<'_>,
+) -> Result<(), PlotError> {
+    style::write_svg(path, size, |root| {
         let body = root.titled(title, (style::FONT, style::TITLE_SIZE))?;
         let (w, h) = body.dim_in_pixel();
         // Chart area chosen so that the plot area inside it is square.
@@ -189,7 +200,7 @@ pub fn gg(
         let plot = w.saturating_sub(side_x).min(h.saturating_sub(side_y));
         let left = w.saturating_sub(plot + side_x) / 2;
         let square = body.shrink((left, 0), (plot + side_x, plot + side_y));
-        draw_chart(&square, &chart)
+        draw_chart(&square, chart)
     })
 }
 

@@ -58,6 +58,7 @@ pub(crate) mod h5;
 mod record;
 mod summary;
 
+pub(crate) use atomic::write_atomically;
 pub use csv::write_csv;
 pub use error::ResultsError;
 pub use h5::{read_hdf5, write_hdf5};

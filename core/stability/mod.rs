@@ -2,12 +2,14 @@
 //! cornering condition, numerical linearisation about it, eigenvalues and
 //! modes named by participation, and stability maps over two parameters.
 //!
-//! It owns the trim solver ([`trim`]), the linearisation ([`linear`]) and the
-//! map file ([`map`]); it uses the model's derivative unchanged and does not
+//! It owns the trim solver ([`trim`]) on the shared equilibrium solver
+//! ([`solve`], also used by [`crate::quasi_static`]), the linearisation
+//! ([`linear`]) and the map file ([`map`]); it uses the model's derivative unchanged and does not
 //! integrate in time. All quantities SI (eigenvalues in 1/s).
 
 pub mod linear;
 pub mod map;
+pub mod solve;
 pub mod trim;
 
 use nalgebra::Complex;
@@ -20,6 +22,7 @@ pub use linear::{
     LINEAR_STATES, StateGroup, default_relative_step, eigenvalues, participation, state_matrix,
 };
 pub use map::{MapAxis, MapError, MapPoint, StabilityMap, read_map, write_map};
+pub use solve::{derivative_scale, newton, typical_unknown};
 pub use trim::{Trim, TrimSettings, TrimTarget, find_trim, retrim};
 
 /// An eigenvalue is unstable when its real part exceeds this, 1/s.

@@ -18,14 +18,12 @@
 //! it reaches the grip limit; the last converged ay is then the largest
 //! reachable lateral acceleration to within [`TrimSettings::min_step`].
 
-use nalgebra::{DMatrix, DVector};
+use nalgebra::DVector;
 
 use super::StabilityError;
 use super::linear::LINEAR_STATES;
-use crate::model::{
-    AY_GEOMETRIC, Commands, PITCH, PITCH_RATE, ROLL, ROLL_RATE, SLIP_ANGLE, SLIP_RATIO, State, VX,
-    VY, WHEEL_SPEED, YAW_RATE, evaluate, straight_running,
-};
+use super::solve::{self, derivative_scale, typical_unknown};
+use crate::model::{Commands, State, VX, VY, evaluate, straight_running};
 use crate::params::{FRONT, GRAVITY, REAR, Vehicle};
 
 /// States solved for in the trim: the linearised states except VX (the speed
@@ -182,25 +180,9 @@ pub fn trim_residual(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -
     let e = evaluate(vehicle, &x, &c);
     let d = &e.derivative;
     let g = GRAVITY;
-    let mg = vehicle.mass * g;
-    let v = target.speed;
     let mut f = DVector::zeros(N);
     for (k, &i) in TRIM_STATES.iter().enumerate() {
-        let scale = match i {
-            VY => 1.0 / g,
-            YAW_RATE => vehicle.yaw_inertia / (mg * vehicle.wheelbase),
-            ROLL | PITCH => 1.0,
-            ROLL_RATE => vehicle.roll_inertia / (mg * vehicle.cg_height),
-            PITCH_RATE => vehicle.pitch_inertia / (mg * vehicle.cg_height),
-            AY_GEOMETRIC => crate::model::AY_GEOMETRIC_TIME_CONSTANT / g,
-            _ if i >= SLIP_RATIO => vehicle.tyres[(i - SLIP_RATIO) / 2].relaxation_longitudinal / v,
-            _ if i >= SLIP_ANGLE => vehicle.tyres[(i - SLIP_ANGLE) / 2].relaxation_lateral / v,
-            _ => {
-                let t = &vehicle.tyres[(i - WHEEL_SPEED) / 2];
-                t.wheel_inertia / (t.rolling_radius * 0.25 * mg)
-            }
-        };
-        f[k] = d[i] * scale;
+        f[k] = d[i] * derivative_scale(vehicle, i, target.speed);
     }
     f[N - 2] = (e.ay - target.lat_accel) / g;
     f[N - 1] = (d[VX] - target.long_accel) / g;
@@ -213,31 +195,12 @@ fn typical(vehicle: &Vehicle, target: &TrimTarget) -> DVector<f64> {
     s[0] = 0.1;
     s[1] = 100.0;
     for (k, &i) in TRIM_STATES.iter().enumerate() {
-        s[2 + k] = match i {
-            VY => 0.1,
-            YAW_RATE | ROLL_RATE | PITCH_RATE => 0.1,
-            AY_GEOMETRIC => 1.0,
-            _ if (WHEEL_SPEED..WHEEL_SPEED + 4).contains(&i) => {
-                target.speed / vehicle.tyres[(i - WHEEL_SPEED) / 2].rolling_radius
-            }
-            _ => 0.01,
-        };
+        s[2 + k] = typical_unknown(vehicle, i, target.speed);
     }
     s
 }
 
-fn max_abs(f: &DVector<f64>) -> f64 {
-    f.iter().fold(0.0_f64, |m, v| {
-        if v.is_nan() {
-            f64::INFINITY
-        } else {
-            m.max(v.abs())
-        }
-    })
-}
-
-/// Newton's method with a forward-difference Jacobian
-/// (h_j = sqrt(ε)·max(|z_j|, typical_j)) and backtracking on ‖F‖₂.
+/// Newton's method on [`trim_residual`] (the shared solver, [`super::solve::newton`]).
 /// Returns the solution and its largest scaled residual, or `None`.
 fn newton(
     vehicle: &Vehicle,
@@ -245,52 +208,13 @@ fn newton(
     start: &DVector<f64>,
     settings: &TrimSettings,
 ) -> Option<(DVector<f64>, f64)> {
-    let typ = typical(vehicle, target);
-    let mut z = start.clone();
-    let mut f = trim_residual(vehicle, target, &z);
-    let mut norm = f.norm();
-    if !norm.is_finite() {
-        return None;
-    }
-    let sqrt_eps = f64::EPSILON.sqrt();
-    for _ in 0..settings.max_iterations {
-        if max_abs(&f) < settings.tolerance {
-            return Some((z, max_abs(&f)));
-        }
-        let mut jac = DMatrix::zeros(N, N);
-        for j in 0..N {
-            let h = sqrt_eps * z[j].abs().max(typ[j]);
-            let mut zp = z.clone();
-            zp[j] += h;
-            let h = zp[j] - z[j];
-            let fp = trim_residual(vehicle, target, &zp);
-            jac.set_column(j, &((fp - &f) / h));
-        }
-        let step = jac.lu().solve(&(-&f))?;
-        if !step.iter().all(|s| s.is_finite()) {
-            return None;
-        }
-        let mut t = 1.0;
-        loop {
-            let trial = &z + &step * t;
-            let ft = trim_residual(vehicle, target, &trial);
-            let nt = ft.norm();
-            if nt.is_finite() && nt <= (1.0 - 1e-4 * t) * norm {
-                z = trial;
-                f = ft;
-                norm = nt;
-                break;
-            }
-            t *= 0.5;
-            if t < 1.0 / 1024.0 {
-                return None;
-            }
-        }
-    }
-    (max_abs(&f) < settings.tolerance).then(|| {
-        let r = max_abs(&f);
-        (z, r)
-    })
+    solve::newton(
+        |z| trim_residual(vehicle, target, z),
+        start,
+        &typical(vehicle, target),
+        settings.tolerance,
+        settings.max_iterations,
+    )
 }
 
 /// Unknowns of the straight-running starting point at `target.speed`.

@@ -10,11 +10,15 @@
 //! integrate wheel spin: those live in the vehicle model. It allocates nothing
 //! and does no I/O, so it can be called inside the ODE right-hand side.
 //!
+//! [`inspect`] draws curves and key figures of one tyre from the same force
+//! function (tyre inspection).
+//!
 //! Source for the equations: Pacejka, *Tire and Vehicle Dynamics* (2nd ed.
 //! 2006), ch. 4; the MF 5.2 details are written from memory (see each doc
 //! comment).
 
 mod coefficients;
+pub mod inspect;
 mod model;
 
 pub use coefficients::MagicFormulaCoefficients;

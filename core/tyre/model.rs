@@ -135,6 +135,11 @@ impl TyreModel {
         }
     }
 
+    /// The scaled nominal load Fz0' = λFz0·Fz0 the load dependence refers to, N.
+    pub fn nominal_load(&self) -> f64 {
+        self.nominal_load
+    }
+
     /// Load clamped to the evaluated range and its normalised increment
     /// dfz = (Fz − Fz0')/Fz0' (Pacejka ch. 4, from memory).
     #[inline]
