@@ -275,7 +275,12 @@ pub(crate) mod dopri853 {
         0.651282051282051282051282051282E+00,
         0.6E+00,
         0.857142857142857142857142857142E+00,
-        0.0,
+        // yawdyn patch: stage 12 is evaluated at x + h (its coefficients
+        // a(12, j) sum to 1; Hairer's DOP853 calls it at XPH = X + H). Upstream
+        // 0.6.2 has 0.0 here, which evaluates a time-varying system at the
+        // wrong time. Stage 13 is the first-same-as-last evaluation at x + h,
+        // made in dop853.rs without this table.
+        1.0,
         0.0,
         0.1E+00,
         0.2E+00,
@@ -491,6 +496,31 @@ mod tests {
     fn dopri853_e() {
         assert_eq!(dopri853::e::<f64>(1), 0.1312004499419488073250102996E-01);
         assert_eq!(dopri853::e::<f64>(12), -0.2235530786388629525884427845E-01);
+    }
+
+    /// yawdyn patch: every stage's time node equals the sum of its
+    /// coefficients, c_i = Σ_j a_ij (Hairer, Nørsett & Wanner, *Solving
+    /// Ordinary Differential Equations I*, 2nd ed., §II.1, eq. (1.9)); the
+    /// dense-output stages 14–16 included. Stage 13 (the first-same-as-last
+    /// evaluation) is not in the table.
+    #[test]
+    fn dopri853_nodes_are_row_sums() {
+        for i in (2..=12).chain(14..=16) {
+            let sum: f64 = (1..i).map(|j| dopri853::a::<f64>(i, j)).sum();
+            let c = dopri853::c::<f64>(i);
+            assert!((sum - c).abs() < 1e-12, "stage {i}: c = {c}, row sum {sum}");
+        }
+    }
+
+    /// yawdyn patch: the same condition for Dopri5 (stage 7 is the
+    /// first-same-as-last evaluation at x + h).
+    #[test]
+    fn dopri5_nodes_are_row_sums() {
+        for i in 2..=7 {
+            let sum: f64 = (1..i).map(|j| dopri54::a::<f64>(i, j)).sum();
+            let c = dopri54::c::<f64>(i);
+            assert!((sum - c).abs() < 1e-14, "stage {i}: c = {c}, row sum {sum}");
+        }
     }
 
     #[test]

@@ -619,10 +619,15 @@ mod tests {
         let mut stepper = Dop853::new(system, 0., 1., 0.1, Vector1::new(1.), 1e-12, 1e-6);
         let _ = stepper.integrate();
 
+        // yawdyn patch: upstream asserted that the last dense point is 0.5
+        // and y(0.5) = 0.912968195, both results of the wrong stage-12 time
+        // node (see butcher_tableau.rs). y(0.5) = 0.91305961462 by classical
+        // RK4 at h = 1e-5 (a check outside this crate); atol here is 1e-6.
         let x = stepper.x_out();
-        assert!((*x.last().unwrap() - 0.5).abs() < 1.0E-9); //
+        assert!((x[5] - 0.5).abs() < 1.0E-9);
+        assert!(*x.last().unwrap() >= 0.5 - 1.0E-9);
 
         let out = stepper.y_out();
-        assert!((&out[5][0] - 0.912968195).abs() < 1.0E-9);
+        assert!((&out[5][0] - 0.91305961462).abs() < 1.0E-6);
     }
 }
