@@ -565,6 +565,13 @@ where
                 * theta
     }
 
+    /// yawdyn patch: the step size the controller proposed for the next step
+    /// after [`integrate`](Self::integrate) returned normally (the last step
+    /// size after an error), so that a caller can continue with it.
+    pub fn step_size(&self) -> T {
+        self.h_old
+    }
+
     /// Getter for the independent variable's output.
     pub fn x_out(&self) -> &Vec<T> {
         self.results.get().0

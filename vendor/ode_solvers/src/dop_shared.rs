@@ -125,6 +125,12 @@ pub enum IntegrationError {
     StepSizeUnderflow { x: f64 },
     #[error("The problem seems to become stiff at x = {x}.")]
     StiffnessDetected { x: f64 },
+    /// yawdyn patch: the error estimate of a step is NaN or infinite (the
+    /// right-hand side returned a non-finite value), reported by
+    /// [`Dopri5Stepper`](crate::Dopri5Stepper) instead of shrinking the step
+    /// until it underflows.
+    #[error("Non-finite error estimate in the step from x = {x}.")]
+    NonFinite { x: f64 },
 }
 
 /// Contains some statistics of the integration.

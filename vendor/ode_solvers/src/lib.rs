@@ -15,10 +15,13 @@ pub mod controller;
 pub mod dop853;
 pub mod dop_shared;
 pub mod dopri5;
+// yawdyn patch: step-by-step Dopri5 (see PATCHES.md).
+pub mod dopri5_stepper;
 pub mod rk4;
 
 pub use dop853::Dop853;
 pub use dopri5::Dopri5;
+pub use dopri5_stepper::Dopri5Stepper;
 pub use rk4::Rk4;
 
 pub use dop_shared::OutputType;
