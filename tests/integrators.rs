@@ -83,7 +83,10 @@ fn every_solver_follows_a_tight_reference_under_sine_with_dwell_steering() {
     };
     let reference = run(&v, tight);
     let peak = max_error(&reference, &vec![State::zeros(); reference.len()], YAW_RATE);
-    assert!(peak > 0.3, "the manoeuvre turns the car: peak yaw rate {peak}");
+    assert!(
+        peak > 0.3,
+        "the manoeuvre turns the car: peak yaw rate {peak}"
+    );
     for kind in [SolverKind::Dopri5, SolverKind::Dop853, SolverKind::Rk4] {
         let settings = SolverSettings {
             kind,
