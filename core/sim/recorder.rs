@@ -23,18 +23,42 @@ pub const NODES: [f64; 5] = [
 /// Number of interpolation nodes.
 pub const N_NODES: usize = NODES.len();
 
+/// 1 / Π_{m≠j} (θ_j − θ_m) for each node j: the Lagrange denominators.
+const DENOMINATORS: [f64; N_NODES] = {
+    let mut d = [1.0; N_NODES];
+    let mut j = 0;
+    while j < N_NODES {
+        let mut m = 0;
+        while m < N_NODES {
+            if m != j {
+                d[j] *= NODES[j] - NODES[m];
+            }
+            m += 1;
+        }
+        d[j] = 1.0 / d[j];
+        j += 1;
+    }
+    d
+};
+
 /// Lagrange weights of the nodes at θ: value(θ) = Σ w_j·value(θ_j).
 #[inline]
 pub fn lagrange_weights(theta: f64) -> [f64; N_NODES] {
-    let mut w = [1.0; N_NODES];
-    for (j, wj) in w.iter_mut().enumerate() {
-        for (m, &tm) in NODES.iter().enumerate() {
+    // At a node exactly that node's value (a sample at a step's end is the
+    // evaluation there, bit for bit).
+    if let Some(j) = NODES.iter().position(|&t| t == theta) {
+        return std::array::from_fn(|m| if m == j { 1.0 } else { 0.0 });
+    }
+    let x: [f64; N_NODES] = std::array::from_fn(|m| theta - NODES[m]);
+    std::array::from_fn(|j| {
+        let mut w = DENOMINATORS[j];
+        for (m, xm) in x.iter().enumerate() {
             if m != j {
-                *wj *= (theta - tm) / (NODES[j] - tm);
+                w *= xm;
             }
         }
-    }
-    w
+        w
+    })
 }
 
 /// The recorded samples.
@@ -142,11 +166,11 @@ impl Recorder {
                 nodes[3][c],
                 nodes[4][c],
             ];
-            let start = d.len();
-            d.resize(start + n, 0.0);
-            for (s, out) in d[start..].iter_mut().enumerate() {
-                *out = w0[s] * v[0] + w1[s] * v[1] + w2[s] * v[2] + w3[s] * v[3] + w4[s] * v[4];
-            }
+            d.extend(
+                (0..n).map(|s| {
+                    w0[s] * v[0] + w1[s] * v[1] + w2[s] * v[2] + w3[s] * v[3] + w4[s] * v[4]
+                }),
+            );
         }
     }
 
