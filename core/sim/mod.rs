@@ -31,9 +31,10 @@
 //!                sample the step
 //! sample:    every k/rate in the step, up to t_end:
 //!                at the step's end: the solver's own evaluation there
-//!                else if the step holds more than 3 samples and the commands are
-//!                the same at its 5 nodes: every channel interpolated (degree 4)
-//!                from exact evaluations at the nodes (the ends and 3 interior)
+//!                else if the step holds more than 3 samples, the commands are the
+//!                same at its 5 nodes and every channel passes the smoothness check
+//!                (INTERPOLATION_CHECK): every channel interpolated (degree 4) from
+//!                exact evaluations at the nodes (the ends and 3 interior)
 //!                else: the model at the dense-output state
 //! state:     x(t_end) := the step's end if it ends at t_end, else its dense output
 //!            t := t_end
@@ -63,8 +64,8 @@ pub use channels::{
     CHANNEL_DEFS, ChannelDef, ChannelInfo, ChannelTable, N_CHANNELS, Outputs, Reader, Row,
     channel_list,
 };
-pub use continuous::MAX_STEP;
-pub use recorder::{NODES, lagrange_weights};
+pub use continuous::{INTERPOLATION_CHECK, MAX_STEP};
+pub use recorder::{NODES, lagrange_weights, smooth_enough};
 
 use std::sync::Arc;
 
