@@ -10,7 +10,7 @@ use ode_solvers::dop_shared::IntegrationError;
 
 use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
 use super::plant::{Captured, Plant};
-use super::recorder::{N_NODES, NODES, smooth_enough};
+use super::recorder::{CHECK_POINT, N_NODES, NODES, interpolation_holds};
 use super::{InputSource, MAX_STEPS_PER_SEGMENT, SimError, Simulation, same_time};
 use crate::model::{N_STATES, STATE_NAMES, State};
 
@@ -21,15 +21,13 @@ use crate::model::{N_STATES, STATE_NAMES, State};
 /// tied to the shortest input feature).
 pub const MAX_STEP: f64 = 0.05;
 
-/// Tolerance of the smoothness check that allows interpolated samples in a
-/// step ([`smooth_enough`](super::recorder::smooth_enough)), relative to each
-/// channel's largest magnitude at the step's nodes. With 1e-3 the interpolated
-/// channels stay within about 3e-4 of their magnitude of the model evaluated at
-/// every sample, also where a step passes a gentle corner (the drive torque
-/// reaching the power limit), and within 3e-7 on smooth stretches; sharper
-/// corners fail the check and are evaluated sample by sample
+/// Tolerance of the check that allows interpolated samples in a step
+/// ([`interpolation_holds`]), relative to each channel's largest magnitude in
+/// the step. Smooth stretches interpolate to about 1e-6 of a channel's
+/// magnitude and pass; a corner inside the step (the power limit, brakes
+/// fading near standstill) fails, and its samples are evaluated one by one
 /// (`sim::test::interpolated_samples_*`).
-pub const INTERPOLATION_CHECK: f64 = 1e-3;
+pub const INTERPOLATION_CHECK: f64 = 1e-4;
 
 /// Step-size controller of Dopri5 (Hairer, Nørsett & Wanner, *Solving
 /// Ordinary Differential Equations I*, 2nd ed., §II.4, eq. (4.13), with the
@@ -227,18 +225,20 @@ impl Simulation {
     }
 
     /// Direct or interpolated samples for the last step; fills the nodes for
-    /// interpolation. Interpolation needs more samples in the step than
-    /// interior nodes (else evaluating each sample is cheaper), the same
-    /// commands at every node (a command that changes inside the step may
-    /// have a corner no polynomial follows) and both end evaluations.
+    /// interpolation. Interpolation needs more samples in the step than the 4
+    /// evaluations it costs, the same commands at every node (a command that
+    /// changes inside the step may have a corner no polynomial follows), both
+    /// end evaluations, and the interpolant must match an exact evaluation at
+    /// the check point.
     fn choose_output(&mut self, run: &mut Continuous, inputs: &dyn InputSource) -> StepOutput {
         let (t0, t1) = (run.stepper.x_old(), run.stepper.x());
         let samples = self.recorder.count_due(t1);
         let (Some(start), Some(end)) = (run.at_start, run.at_end) else {
             return StepOutput::Direct;
         };
+        // Interpolation costs the 3 interior nodes and the check point.
         if !self.interpolate_output
-            || samples <= (N_NODES - 2) as u64
+            || samples <= (N_NODES - 1) as u64
             || start.t != t0
             || end.t != t1
         {
@@ -260,8 +260,11 @@ impl Simulation {
             let c = Captured::evaluate(&self.vehicle, inputs, t, &run.stepper.dense(t));
             *node = table.row(&self.outputs_of(t, &c));
         }
-        self.output_evaluations += (N_NODES - 2) as u64;
-        if !smooth_enough(&run.nodes, INTERPOLATION_CHECK) {
+        let t = t0 + CHECK_POINT * h;
+        let c = Captured::evaluate(&self.vehicle, inputs, t, &run.stepper.dense(t));
+        let check = table.row(&self.outputs_of(t, &c));
+        self.output_evaluations += (N_NODES - 1) as u64;
+        if !interpolation_holds(&run.nodes, &check, INTERPOLATION_CHECK) {
             return StepOutput::Direct;
         }
         StepOutput::Interpolated

@@ -31,10 +31,10 @@
 //!                sample the step
 //! sample:    every k/rate in the step, up to t_end:
 //!                at the step's end: the solver's own evaluation there
-//!                else if the step holds more than 3 samples, the commands are the
-//!                same at its 5 nodes and every channel passes the smoothness check
-//!                (INTERPOLATION_CHECK): every channel interpolated (degree 4) from
-//!                exact evaluations at the nodes (the ends and 3 interior)
+//!                else if the step holds more than 4 samples, the commands are the
+//!                same at its 5 nodes and the interpolant matches an exact evaluation
+//!                at a check point (INTERPOLATION_CHECK): every channel interpolated
+//!                (degree 4) from exact evaluations at the nodes (ends and 3 interior)
 //!                else: the model at the dense-output state
 //! state:     x(t_end) := the step's end if it ends at t_end, else its dense output
 //!            t := t_end
@@ -65,7 +65,7 @@ pub use channels::{
     channel_list,
 };
 pub use continuous::{INTERPOLATION_CHECK, MAX_STEP};
-pub use recorder::{NODES, lagrange_weights, smooth_enough};
+pub use recorder::{CHECK_POINT, NODES, interpolation_holds, lagrange_weights};
 
 use std::sync::Arc;
 
@@ -373,7 +373,7 @@ impl Simulation {
         }
     }
 
-    /// Whether samples inside a step that holds more than 3 of them are
+    /// Whether samples inside a step that holds more than 4 of them are
     /// interpolated from exact evaluations at 5 nodes (default true; see the
     /// module docs). `false` evaluates the model at every sample.
     pub fn set_output_interpolation(&mut self, on: bool) {

@@ -61,29 +61,19 @@ pub fn lagrange_weights(theta: f64) -> [f64; N_NODES] {
     })
 }
 
-/// Weights of the quadratic through the nodes at θ = 0, ½, 1, evaluated at
-/// the other two nodes (θ₁ and θ₃).
-const QUADRATIC_AT_INTERIOR: [[f64; 3]; 2] = {
-    const fn at(t: f64) -> [f64; 3] {
-        [
-            2.0 * (t - 0.5) * (t - 1.0),
-            -4.0 * t * (t - 1.0),
-            2.0 * t * (t - 0.5),
-        ]
-    }
-    [at(NODES[1]), at(NODES[3])]
-};
+/// Where a step's interpolation is checked against an exact evaluation, as a
+/// fraction of the step: midway between the nodes θ₁ and θ₂, in one of the two
+/// widest gaps between nodes, where the interpolation error is largest.
+pub const CHECK_POINT: f64 = 0.5 * (NODES[1] + NODES[2]);
 
-/// Whether every channel is smooth enough over the step for the degree-4
-/// interpolant: at the nodes θ₁ and θ₃ the quadratic through the other three
-/// nodes misses the exact value by at most `tolerance` × the channel's
-/// largest magnitude at the nodes. The difference between two interpolants of
-/// different degree estimates the error of the lower one (as an embedded
-/// Runge–Kutta pair estimates a step's error); a corner inside the step (a
-/// power limit reached, a wheel lifting) makes it of the order of the
-/// slope change × step, and the samples are then evaluated one by one.
-pub fn smooth_enough(nodes: &[Row; N_NODES], tolerance: f64) -> bool {
-    let [q1, q3] = QUADRATIC_AT_INTERIOR;
+/// Whether the degree-4 interpolant of every channel through `nodes` agrees
+/// with `exact`, the channel values at [`CHECK_POINT`], to `tolerance` × the
+/// channel's largest magnitude at the nodes and the check point. A corner
+/// inside the step (a power limit reached, a brake fading out) bends the
+/// interpolant away from the exact values; then the samples are evaluated one
+/// by one.
+pub fn interpolation_holds(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {
+    let w = lagrange_weights(CHECK_POINT);
     (0..N_CHANNELS).all(|c| {
         let v = [
             nodes[0][c],
@@ -92,10 +82,9 @@ pub fn smooth_enough(nodes: &[Row; N_NODES], tolerance: f64) -> bool {
             nodes[3][c],
             nodes[4][c],
         ];
-        let scale = v.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
-        let miss1 = (v[1] - (q1[0] * v[0] + q1[1] * v[2] + q1[2] * v[4])).abs();
-        let miss3 = (v[3] - (q3[0] * v[0] + q3[1] * v[2] + q3[2] * v[4])).abs();
-        miss1.max(miss3) <= tolerance * scale
+        let interpolated: f64 = w.iter().zip(v).map(|(w, v)| w * v).sum();
+        let scale = v.iter().fold(exact[c].abs(), |m, x| m.max(x.abs()));
+        (interpolated - exact[c]).abs() <= tolerance * scale
     })
 }
 
@@ -252,18 +241,17 @@ mod tests {
         }
     }
 
-    /// The smoothness check passes a gently curved quartic and fails a
-    /// corner |θ − 0.4| inside the step.
+    /// The check passes a smooth curve and fails a corner |θ − 0.6| inside
+    /// the step.
     #[test]
-    fn smoothness_check_finds_corners() {
-        let rows = |f: &dyn Fn(f64) -> f64| -> [Row; N_NODES] {
-            std::array::from_fn(|j| [f(NODES[j]); N_CHANNELS])
+    fn interpolation_check_finds_corners() {
+        let check = |f: &dyn Fn(f64) -> f64| {
+            let nodes: [Row; N_NODES] = std::array::from_fn(|j| [f(NODES[j]); N_CHANNELS]);
+            interpolation_holds(&nodes, &[f(CHECK_POINT); N_CHANNELS], 1e-4)
         };
-        let gentle = |t: f64| 100.0 + t + 0.01 * t.powi(4);
-        assert!(smooth_enough(&rows(&gentle), 1e-3));
-        let corner = |t: f64| 100.0 + 10.0 * (t - 0.4).abs();
-        assert!(!smooth_enough(&rows(&corner), 1e-3));
-        assert!(smooth_enough(&rows(&|_| 0.0), 1e-3), "all zero");
+        assert!(check(&|t| 100.0 + (3.0 * t).sin()));
+        assert!(!check(&|t| 100.0 + 10.0 * (t - 0.6).abs()));
+        assert!(check(&|_| 0.0), "all zero");
     }
 
     #[test]

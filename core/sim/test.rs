@@ -281,10 +281,10 @@ fn non_finite_input_stops_with_time_and_state() {
 }
 
 /// Through corners of the model (the drive torque reaching the power limit at
-/// full drive; brakes fading near standstill and wheels unloading in a braked
-/// turn) interpolated samples stay within 1e-3 of each channel's largest
-/// magnitude of the model evaluated at every sample: the smoothness check
-/// sends sharp corners to sample-by-sample evaluation. Wheel loads stay ≥ 0.
+/// full drive; brakes fading near standstill in a braked turn) interpolated
+/// samples stay within 1e-4 of each channel's largest magnitude of the model
+/// evaluated at every sample: the check against an exact evaluation sends
+/// steps with a corner to sample-by-sample evaluation. Wheel loads stay ≥ 0.
 #[test]
 fn interpolated_samples_through_corners() {
     let v = crossover();
@@ -311,7 +311,7 @@ fn interpolated_samples_through_corners() {
             let data = exact.channel(&info.name).unwrap();
             let scale = data.iter().fold(1e-9, |m: f64, x| m.max(x.abs()));
             let error = channel_error(&fast, &exact, &info.name);
-            assert!(error <= 1e-3 * scale, "{}: {error} of {scale}", info.name);
+            assert!(error <= 1e-4 * scale, "{}: {error} of {scale}", info.name);
         }
         for wheel in crate::model::WHEEL_NAMES {
             let fz = fast.channel(&format!("fz_{wheel}")).unwrap();
