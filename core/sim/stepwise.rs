@@ -3,12 +3,12 @@
 //! to the next; each stop evaluates the derivative at its start again (these
 //! methods have no dense output here).
 
-use ode_solvers::dop_shared::OutputType;
+use ode_solvers::dop_shared::{IntegrationError, OutputType, Stats};
 use ode_solvers::{Dop853, Rk4};
 
 use super::plant::{Captured, Plant};
 use super::{InputSource, MAX_STEPS_PER_SEGMENT, SimError, Simulation, SolverKind, same_time};
-use crate::model::STATE_NAMES;
+use crate::model::{STATE_NAMES, State};
 
 /// Step-size controller of Dop853 (Hairer, Nørsett & Wanner, *Solving
 /// Ordinary Differential Equations I*, 2nd ed., §II.10, and their DOP853
@@ -55,44 +55,8 @@ impl Simulation {
                 };
             let vehicle = std::sync::Arc::clone(&self.vehicle);
             let plant = Plant::new(&vehicle, inputs);
-            let span = stop - self.time;
-            let (outcome, last) = match self.settings.kind {
-                SolverKind::Rk4 => {
-                    let n = (span / self.settings.fixed_step).ceil().max(1.0);
-                    let mut s = Rk4::new(&plant, self.time, self.state, stop, span / n);
-                    (s.integrate(), s.y_out().last().copied())
-                }
-                _ => {
-                    let h0 = if self.dop853_step > 0.0 {
-                        self.dop853_step.min(span)
-                    } else {
-                        0.0
-                    };
-                    let mut s = Dop853::from_param(
-                        &plant,
-                        self.time,
-                        stop,
-                        span,
-                        self.state,
-                        self.settings.rtol,
-                        self.settings.atol,
-                        control::SAFETY,
-                        control::BETA,
-                        control::FAC_MIN,
-                        control::FAC_MAX,
-                        span,
-                        h0,
-                        MAX_STEPS_PER_SEGMENT,
-                        u32::MAX,
-                        OutputType::Sparse,
-                    );
-                    let o = s.integrate();
-                    if o.is_ok() {
-                        self.dop853_step = s.step_size().abs();
-                    }
-                    (o, s.y_out().last().copied())
-                }
-            };
+            // Integrate to the stop, then sample there.
+            let (outcome, last) = self.integrate_span(&plant, stop);
             if let Ok(s) = &outcome {
                 self.evaluations += u64::from(s.num_eval);
             }
@@ -123,5 +87,49 @@ impl Simulation {
             }
         }
         Ok(())
+    }
+
+    /// One call of Dop853 or Rk4 from the current time to `stop`: its
+    /// statistics and the state at `stop`.
+    fn integrate_span(
+        &mut self,
+        plant: &Plant,
+        stop: f64,
+    ) -> (Result<Stats, IntegrationError>, Option<State>) {
+        let span = stop - self.time;
+        if self.settings.kind == SolverKind::Rk4 {
+            let n = (span / self.settings.fixed_step).ceil().max(1.0);
+            let mut s = Rk4::new(plant, self.time, self.state, stop, span / n);
+            return (s.integrate(), s.y_out().last().copied());
+        }
+        // Dop853 starts with the step its controller proposed at the last stop.
+        let h0 = if self.dop853_step > 0.0 {
+            self.dop853_step.min(span)
+        } else {
+            0.0
+        };
+        let mut s = Dop853::from_param(
+            plant,
+            self.time,
+            stop,
+            span,
+            self.state,
+            self.settings.rtol,
+            self.settings.atol,
+            control::SAFETY,
+            control::BETA,
+            control::FAC_MIN,
+            control::FAC_MAX,
+            span,
+            h0,
+            MAX_STEPS_PER_SEGMENT,
+            u32::MAX,
+            OutputType::Sparse,
+        );
+        let outcome = s.integrate();
+        if outcome.is_ok() {
+            self.dop853_step = s.step_size().abs();
+        }
+        (outcome, s.y_out().last().copied())
     }
 }

@@ -152,7 +152,6 @@ where
             self.h = self.initial_step(f, x_stop);
             self.stats.num_eval += 2;
         }
-        let dim = self.y.len();
         loop {
             // Step size underflow.
             if T::from(0.1).unwrap() * self.h.abs() <= self.uround * self.x.abs() {
@@ -168,31 +167,8 @@ where
                 }
                 _ => (wanted, false),
             };
-            // The six further stages; the last one is at (x + h, y_next).
-            let mut y_next = self.y.clone();
-            for s in 1..7 {
-                y_next = self.y.clone();
-                for j in 0..s {
-                    y_next += &self.k[j] * h * dopri54::a::<T>(s + 1, j + 1);
-                }
-                f.system(self.x + h * dopri54::c::<T>(s + 1), &y_next, &mut self.k[s]);
-            }
-            self.stats.num_eval += 6;
-            // Error of the embedded 4th-order solution, scaled RMS norm.
-            let k = &self.k;
-            let mut err = T::zero();
-            for i in 0..dim {
-                let e = h
-                    * (k[0][i] * dopri54::e::<T>(1)
-                        + k[2][i] * dopri54::e::<T>(3)
-                        + k[3][i] * dopri54::e::<T>(4)
-                        + k[4][i] * dopri54::e::<T>(5)
-                        + k[5][i] * dopri54::e::<T>(6)
-                        + k[6][i] * dopri54::e::<T>(7));
-                let sc = self.atol + self.y[i].abs().max(y_next[i].abs()) * self.rtol;
-                err += (e / sc) * (e / sc);
-            }
-            err = (err / T::from(dim).unwrap()).sqrt();
+            let y_next = self.stages(f, h);
+            let err = self.error_norm(h, &y_next);
             if !err.is_finite() {
                 return Err(IntegrationError::NonFinite {
                     x: f64::from(self.x),
@@ -206,19 +182,7 @@ where
             }
             // Accepted: dense-output coefficients, then move to the new point.
             self.stats.accepted_steps += 1;
-            let ydiff = &y_next - &self.y;
-            let bspl = &k[0] * h - &ydiff;
-            self.rcont[4] = (&k[0] * dopri54::d::<T>(1)
-                + &k[2] * dopri54::d::<T>(3)
-                + &k[3] * dopri54::d::<T>(4)
-                + &k[4] * dopri54::d::<T>(5)
-                + &k[5] * dopri54::d::<T>(6)
-                + &k[6] * dopri54::d::<T>(7))
-                * h;
-            self.rcont[3] = -&k[6] * h + &ydiff - &bspl;
-            self.rcont[0] = self.y.clone();
-            self.rcont[1] = ydiff;
-            self.rcont[2] = bspl;
+            self.dense_coefficients(h, &y_next);
             self.k[0] = self.k[6].clone();
             self.y = y_next;
             self.x_old = self.x;
@@ -231,6 +195,59 @@ where
             };
             return Ok(());
         }
+    }
+
+    /// The six stages after the first for a step of size `h`; the last is at
+    /// (x + h, y_next). Returns y_next, the 5th-order solution.
+    fn stages<F: System<T, OVector<T, D>>>(&mut self, f: &F, h: T) -> OVector<T, D> {
+        let mut y_next = self.y.clone();
+        for s in 1..7 {
+            y_next.copy_from(&self.y);
+            for j in 0..s {
+                y_next += &self.k[j] * h * dopri54::a::<T>(s + 1, j + 1);
+            }
+            f.system(self.x + h * dopri54::c::<T>(s + 1), &y_next, &mut self.k[s]);
+        }
+        self.stats.num_eval += 6;
+        y_next
+    }
+
+    /// Shampine's dense-output coefficients of the step of size `h` from
+    /// (x, y) to y_next (as in [`Dopri5`](crate::Dopri5)).
+    fn dense_coefficients(&mut self, h: T, y_next: &OVector<T, D>) {
+        let k = &self.k;
+        let ydiff = y_next - &self.y;
+        let bspl = &k[0] * h - &ydiff;
+        self.rcont[4] = (&k[0] * dopri54::d::<T>(1)
+            + &k[2] * dopri54::d::<T>(3)
+            + &k[3] * dopri54::d::<T>(4)
+            + &k[4] * dopri54::d::<T>(5)
+            + &k[5] * dopri54::d::<T>(6)
+            + &k[6] * dopri54::d::<T>(7))
+            * h;
+        self.rcont[3] = -&k[6] * h + &ydiff - &bspl;
+        self.rcont[0] = self.y.clone();
+        self.rcont[1] = ydiff;
+        self.rcont[2] = bspl;
+    }
+
+    /// Scaled RMS norm of the error of the embedded 4th-order solution.
+    fn error_norm(&self, h: T, y_next: &OVector<T, D>) -> T {
+        let k = &self.k;
+        let dim = self.y.len();
+        let mut err = T::zero();
+        for i in 0..dim {
+            let e = h
+                * (k[0][i] * dopri54::e::<T>(1)
+                    + k[2][i] * dopri54::e::<T>(3)
+                    + k[3][i] * dopri54::e::<T>(4)
+                    + k[4][i] * dopri54::e::<T>(5)
+                    + k[5][i] * dopri54::e::<T>(6)
+                    + k[6][i] * dopri54::e::<T>(7));
+            let sc = self.atol + self.y[i].abs().max(y_next[i].abs()) * self.rtol;
+            err += (e / sc) * (e / sc);
+        }
+        (err / T::from(dim).unwrap()).sqrt()
     }
 
     /// The dense output of the last accepted step at `x` in
