@@ -1,6 +1,6 @@
 //! Quantities derived from a state and its evaluation: speed, sideslip, path
 //! curvature and lateral offset. Defined once here; output channels,
-//! controllers and stability analysis read them from [`derive`] (or, with
+//! controllers and stability analysis read them from [`derive()`] (or, with
 //! only a state at hand, from [`sideslip`] and [`speed`]).
 
 use super::{Evaluation, State, VX, VY, X, Y};
@@ -39,7 +39,7 @@ pub struct Derived {
     pub speed: f64,
     /// Vehicle sideslip angle at the CG, rad; see [`sideslip`].
     pub sideslip: f64,
-    /// Curvature of the CG path, 1/m (positive turning left); see [`derive`].
+    /// Curvature of the CG path, 1/m (positive turning left); see [`derive()`].
     pub path_curvature: f64,
     /// Lateral displacement of the CG from the reference line, m (positive
     /// to the left of it).

@@ -47,7 +47,7 @@
 //! controller saw x(t) from the dense output, which depends only on the inputs
 //! before t to the accuracy of the solution.
 //!
-//! Dop853 and Rk4 stop at every sample time and tick ([`stepwise`]).
+//! Dop853 and Rk4 stop at every sample time and tick (`stepwise.rs`).
 //!
 //! A non-finite state derivative or a solver failure stops the run with the
 //! time and the offending state named; everything sampled so far is kept.
