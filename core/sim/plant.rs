@@ -76,7 +76,9 @@ impl System<f64, State> for Plant<'_> {
     fn system(&self, t: f64, x: &State, dx: &mut State) {
         let captured = Captured::evaluate(self.vehicle, self.inputs, t, x);
         *dx = captured.evaluation.derivative;
-        if self.bad.get().is_none() {
+        // A NaN or infinity anywhere makes the sum non-finite (one pass, no
+        // branch per element); only then is the offending state looked for.
+        if !(dx.sum() + x.sum()).is_finite() && self.bad.get().is_none() {
             if let Some(i) = dx.iter().chain(x.iter()).position(|v| !v.is_finite()) {
                 self.bad.set(Some((t, i % N_STATES)));
             }

@@ -182,20 +182,19 @@ impl Recorder {
         if n == 0 {
             return;
         }
-        // Channel-major: each channel's samples of the step in one pass.
+        // Channel-major: each channel's samples of the step in one pass; a
+        // channel constant over the step (a held command) is copied.
         let [w0, w1, w2, w3, w4] = &self.weights;
-        let (w0, w1, w2, w3, w4) = (&w0[..n], &w1[..n], &w2[..n], &w3[..n], &w4[..n]);
         for (c, d) in self.data.iter_mut().enumerate() {
-            let v = [
-                nodes[0][c],
-                nodes[1][c],
-                nodes[2][c],
-                nodes[3][c],
-                nodes[4][c],
-            ];
+            let v: [f64; N_NODES] = std::array::from_fn(|j| nodes[j][c]);
+            if v.iter().all(|x| x.to_bits() == v[0].to_bits()) {
+                d.extend(std::iter::repeat_n(v[0], n));
+                continue;
+            }
+            let weights = w0.iter().zip(w1).zip(w2).zip(w3).zip(w4);
             d.extend(
-                (0..n).map(|s| {
-                    w0[s] * v[0] + w1[s] * v[1] + w2[s] * v[2] + w3[s] * v[3] + w4[s] * v[4]
+                weights.map(|((((a, b), c), e), f)| {
+                    a * v[0] + b * v[1] + c * v[2] + e * v[3] + f * v[4]
                 }),
             );
         }
