@@ -288,7 +288,7 @@ pub struct Simulation {
     /// Interpolate the samples of long steps (see the module docs).
     interpolate_output: bool,
     /// Dopri5's integration state (`None` for the other methods).
-    continuous: Option<Continuous>,
+    continuous: Option<Box<Continuous>>,
     /// Step size Dop853 proposed at its last stop, s.
     dop853_step: f64,
     recorder: Recorder,
@@ -326,7 +326,7 @@ impl Simulation {
             )));
         }
         let continuous = (settings.kind == SolverKind::Dopri5)
-            .then(|| Continuous::new(0.0, initial, settings.rtol, settings.atol));
+            .then(|| Box::new(Continuous::new(0.0, initial, settings.rtol, settings.atol)));
         Ok(Self {
             vehicle: vehicle.into_shared(),
             settings,

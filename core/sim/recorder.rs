@@ -145,6 +145,9 @@ impl Recorder {
     /// Makes room for every sample up to `t`.
     pub fn reserve_until(&mut self, t: f64) {
         let more = self.count_due(t) as usize;
+        if self.times.capacity() - self.times.len() >= more {
+            return;
+        }
         self.times.reserve(more);
         for d in &mut self.data {
             d.reserve(more);
