@@ -1,81 +1,373 @@
-//! `yawdyn bench`: speed of the inner loop and of a whole run.
+//! `yawdyn bench`: speed of the inner loop and of whole runs.
 //!
-//! Measures wall time only; nothing here is asserted by tests.
+//! Every run is repeated and the repeats are interleaved (A, B, C, …, A, B,
+//! C, …) so that a machine whose speed drifts slows every run alike; each time
+//! is given as min and median, as wall time and as the CPU time of the
+//! measuring thread. Evaluation counts are exact and do not vary between
+//! repeats. Nothing here is asserted by tests: figures are for information.
 
 use std::time::Instant;
 
-use crate::model::{Commands, evaluate, straight_running};
-use crate::params::Vehicle;
-use crate::sim::{SimError, Simulation, SolverSettings};
+use serde::Serialize;
 
-/// Figures from one benchmark.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
-pub struct BenchReport {
-    /// Mean wall time of one derivative evaluation, ns.
-    pub ns_per_derivative: f64,
-    /// Simulated time / wall time for 10 s of constant-steer cornering at 80 km/h,
-    /// 1 kHz output with every channel, integrated as one open-loop segment.
+use crate::manoeuvre::SpeedController;
+use crate::model::{Commands, VX, VY, YAW_RATE, evaluate, straight_running};
+use crate::params::Vehicle;
+use crate::sim::{InputSource, SimError, Simulation, SolverSettings};
+
+/// What to run.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BenchOptions {
+    /// Steering-wheel angle of the constant-steer runs, rad.
+    pub steer: f64,
+    /// Simulated time of each run, s. Default 10 s.
+    pub duration: f64,
+    /// Repeats of each measurement. Default 5.
+    pub repeats: usize,
+}
+
+impl Default for BenchOptions {
+    fn default() -> Self {
+        Self {
+            steer: 30f64.to_radians(),
+            duration: 10.0,
+            repeats: 5,
+        }
+    }
+}
+
+/// Min and median of repeated measurements.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Spread {
+    /// Smallest value.
+    pub min: f64,
+    /// Median (mean of the middle two for an even count).
+    pub median: f64,
+}
+
+impl Spread {
+    fn of(values: &mut [f64]) -> Self {
+        values.sort_by(f64::total_cmp);
+        let n = values.len();
+        let median = if n == 0 {
+            f64::NAN
+        } else if n % 2 == 1 {
+            values[n / 2]
+        } else {
+            0.5 * (values[n / 2 - 1] + values[n / 2])
+        };
+        Self {
+            min: values.first().copied().unwrap_or(f64::NAN),
+            median,
+        }
+    }
+}
+
+/// Figures of one timed run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RunFigures {
+    /// Short name, e.g. `open_loop_1khz`.
+    pub name: &'static str,
+    /// What the run does.
+    pub description: &'static str,
+    /// Wall time of one run, s.
+    pub wall_s: Spread,
+    /// CPU time of one run (measuring thread), s; NaN where not available.
+    pub cpu_s: Spread,
+    /// Simulated time / median wall time.
     pub real_time_factor: f64,
-    /// The same run advanced in 10 ms segments, as with a 100 Hz controller.
-    pub real_time_factor_ticked: f64,
-    /// The open-loop run sampled at 100 Hz instead of 1 kHz (shows the share of
-    /// the per-sample channel computation in the 1 kHz figure).
-    pub real_time_factor_100hz_output: f64,
-    /// Derivative evaluations the solver used for the run.
+    /// Simulated time / median CPU time.
+    pub real_time_factor_cpu: f64,
+    /// Derivative evaluations the solver made.
     pub evaluations: u64,
+    /// The same per simulated second, 1/s.
+    pub evaluations_per_second: f64,
+    /// Model evaluations made only for output samples.
+    pub output_evaluations: u64,
     /// Samples recorded.
     pub samples: usize,
-    /// Lateral acceleration at the end of the run, m/s² (shows the run is meaningful).
+}
+
+/// Figures from one benchmark.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BenchReport {
+    /// Simulated time of each run, s.
+    pub duration_s: f64,
+    /// Repeats of each measurement.
+    pub repeats: usize,
+    /// Wall time of one derivative evaluation, ns.
+    pub ns_per_derivative: Spread,
+    /// The timed runs.
+    pub runs: Vec<RunFigures>,
+    /// Evaluations of the closed-loop ticked run / its replay as one segment.
+    pub closed_loop_evaluation_ratio: f64,
+    /// Largest |yaw-rate difference| of the closed-loop ticked run against
+    /// the same run at rtol = atol = 1e-10, rad/s.
+    pub closed_loop_yaw_rate_error: f64,
+    /// Lateral acceleration at the end of the open-loop run, m/s² (shows the
+    /// run is meaningful).
     pub final_lat_accel: f64,
 }
 
-/// Runs the benchmark on `vehicle` with a steering-wheel angle of `steer` rad.
-pub fn run(vehicle: &Vehicle, steer: f64) -> Result<BenchReport, SimError> {
-    let speed = 80.0 / 3.6;
-    let mut commands = Commands::neutral(vehicle);
-    commands.steer_wheel_angle = steer;
-    let x0 = straight_running(vehicle, speed);
+/// CPU time of the calling thread, s (NaN where the platform gives none).
+fn thread_cpu_time() -> f64 {
+    #[cfg(unix)]
+    {
+        let mut ts = libc::timespec {
+            tv_sec: 0,
+            tv_nsec: 0,
+        };
+        // SAFETY: clock_gettime writes one timespec through a valid pointer.
+        let rc = unsafe { libc::clock_gettime(libc::CLOCK_THREAD_CPUTIME_ID, &mut ts) };
+        if rc == 0 {
+            return ts.tv_sec as f64 + 1e-9 * ts.tv_nsec as f64;
+        }
+    }
+    f64::NAN
+}
 
-    // Derivative cost: evaluate repeatedly on a state taken from the run below.
+/// Wall and CPU time of `f`, s.
+fn timed<T>(f: impl FnOnce() -> T) -> (T, f64, f64) {
+    let (wall, cpu) = (Instant::now(), thread_cpu_time());
+    let out = f();
+    (out, wall.elapsed().as_secs_f64(), thread_cpu_time() - cpu)
+}
+
+/// Commands recorded at every tick, replayed as one function of time (held
+/// from each tick to the next).
+struct Replay {
+    ticks: Vec<(f64, Commands)>,
+}
+
+impl InputSource for Replay {
+    fn commands(&self, t: f64) -> Commands {
+        let i = self.ticks.partition_point(|(tk, _)| *tk <= t);
+        self.ticks[i.saturating_sub(1)].1
+    }
+}
+
+/// One of the benchmark's runs on a fresh simulation.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Scenario {
+    /// Constant commands, one `advance` call.
+    OpenLoop { rate: f64, exact_outputs: bool },
+    /// Constant commands, one `advance` per 10 ms tick.
+    Ticked,
+    /// A PI speed hold at every 10 ms tick (commands change every tick).
+    ClosedLoop,
+    /// The closed-loop run's commands replayed as one segment.
+    Replay,
+}
+
+/// Controller tick of the ticked runs, s.
+const TICK: f64 = 0.01;
+
+struct Bench<'a> {
+    vehicle: &'a Vehicle,
+    options: BenchOptions,
+    commands: Commands,
+}
+
+impl Bench<'_> {
+    fn new_sim(&self, rate: f64, settings: SolverSettings) -> Result<Simulation, SimError> {
+        let x0 = straight_running(self.vehicle, 80.0 / 3.6);
+        Simulation::new(self.vehicle, x0, settings, rate)
+    }
+
+    /// Runs a scenario; the closed-loop run also returns its commands per tick.
+    fn run(
+        &self,
+        scenario: Scenario,
+        settings: SolverSettings,
+        replay: &Replay,
+    ) -> Result<(Simulation, Vec<(f64, Commands)>), SimError> {
+        let end = self.options.duration;
+        let ticks = (end / TICK).round() as usize;
+        let mut log = Vec::new();
+        let sim = match scenario {
+            Scenario::OpenLoop {
+                rate,
+                exact_outputs,
+            } => {
+                let mut sim = self.new_sim(rate, settings)?;
+                sim.set_output_interpolation(!exact_outputs);
+                sim.advance(end, &self.commands)?;
+                sim
+            }
+            Scenario::Ticked => {
+                let mut sim = self.new_sim(1000.0, settings)?;
+                for k in 1..=ticks {
+                    sim.advance(k as f64 * TICK, &self.commands)?;
+                }
+                sim
+            }
+            Scenario::ClosedLoop => {
+                let mut sim = self.new_sim(1000.0, settings)?;
+                let mut hold = SpeedController::default();
+                let target = sim.state()[VX];
+                for k in 1..=ticks {
+                    let speed = sim.state()[VX].hypot(sim.state()[VY]);
+                    let (drive, brake) = hold.update(target, speed, TICK);
+                    let c = Commands {
+                        drive_request: drive,
+                        brake_request: brake,
+                        ..self.commands
+                    };
+                    log.push((sim.time(), c));
+                    sim.advance(k as f64 * TICK, &c)?;
+                }
+                sim
+            }
+            Scenario::Replay => {
+                let mut sim = self.new_sim(1000.0, settings)?;
+                sim.advance(end, replay)?;
+                sim
+            }
+        };
+        Ok((sim, log))
+    }
+}
+
+/// The timed runs: name, description, scenario.
+const RUNS: [(&str, &str, Scenario); 6] = [
+    (
+        "open_loop_1khz",
+        "constant steer, one segment, 1 kHz output",
+        Scenario::OpenLoop {
+            rate: 1000.0,
+            exact_outputs: false,
+        },
+    ),
+    (
+        "ticked_1khz",
+        "constant steer, 100 Hz ticks (commands unchanged), 1 kHz output",
+        Scenario::Ticked,
+    ),
+    (
+        "closed_loop_1khz",
+        "constant steer, PI speed hold at 100 Hz ticks, 1 kHz output",
+        Scenario::ClosedLoop,
+    ),
+    (
+        "replay_1khz",
+        "the closed-loop run's commands replayed as one segment, 1 kHz output",
+        Scenario::Replay,
+    ),
+    (
+        "open_loop_100hz",
+        "constant steer, one segment, 100 Hz output",
+        Scenario::OpenLoop {
+            rate: 100.0,
+            exact_outputs: false,
+        },
+    ),
+    (
+        "open_loop_1khz_exact",
+        "as open_loop_1khz with the model evaluated at every sample",
+        Scenario::OpenLoop {
+            rate: 1000.0,
+            exact_outputs: true,
+        },
+    ),
+];
+
+/// Runs the benchmark on `vehicle`: 10 s (by default) of constant-steer
+/// cornering from 80 km/h with the default solver settings.
+pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimError> {
+    let mut commands = Commands::neutral(vehicle);
+    commands.steer_wheel_angle = options.steer;
+    let bench = Bench {
+        vehicle,
+        options,
+        commands,
+    };
     let settings = SolverSettings::default();
-    let duration = 10.0;
-    let start = Instant::now();
-    let mut sim = Simulation::new(vehicle, x0, settings, 1000.0)?;
-    sim.advance(duration, &commands)?;
-    let wall = start.elapsed().as_secs_f64();
-    let start = Instant::now();
-    let mut ticked = Simulation::new(vehicle, x0, settings, 1000.0)?;
-    let tick: f64 = 0.01;
-    let mut t: f64 = 0.0;
-    while t < duration - 1e-9 {
-        t = (t + tick).min(duration);
-        ticked.advance(t, &commands)?;
+    // The closed-loop commands to replay, and its accuracy against a tight run.
+    let (closed, log) = bench.run(Scenario::ClosedLoop, settings, &Replay { ticks: vec![] })?;
+    let replay = Replay { ticks: log };
+    let tight = SolverSettings {
+        rtol: 1e-10,
+        atol: 1e-10,
+        ..settings
+    };
+    let (reference, _) = bench.run(Scenario::ClosedLoop, tight, &replay)?;
+    let yaw_rate_error = max_difference(&closed, &reference, "yaw_rate");
+    let (replayed, _) = bench.run(Scenario::Replay, settings, &replay)?;
+    let closed_loop_evaluation_ratio = closed.evaluations() as f64 / replayed.evaluations() as f64;
+    // Interleaved repeats of every run, and of the derivative loop.
+    let mut wall = vec![Vec::new(); RUNS.len()];
+    let mut cpu = vec![Vec::new(); RUNS.len()];
+    let mut ns = Vec::new();
+    let mut last: Vec<Option<Simulation>> = RUNS.iter().map(|_| None).collect();
+    for _ in 0..options.repeats.max(1) {
+        for (i, (_, _, scenario)) in RUNS.iter().enumerate() {
+            let (result, w, c) = timed(|| bench.run(*scenario, settings, &replay));
+            wall[i].push(w);
+            cpu[i].push(c);
+            last[i] = Some(result?.0);
+        }
+        ns.push(ns_per_derivative(&bench, closed.state()));
     }
-    let wall_ticked = start.elapsed().as_secs_f64();
-    let start = Instant::now();
-    let mut coarse = Simulation::new(vehicle, x0, settings, 100.0)?;
-    coarse.advance(duration, &commands)?;
-    let wall_coarse = start.elapsed().as_secs_f64();
-    let state = *sim.state();
-    let n = 200_000;
-    let mut acc = 0.0;
-    let start = Instant::now();
-    let mut x = state;
-    for i in 0..n {
-        x[crate::model::VY] = state[crate::model::VY] + 1e-12 * (i % 7) as f64;
-        let e = evaluate(vehicle, std::hint::black_box(&x), &commands);
-        acc += e.derivative[crate::model::YAW_RATE];
-    }
-    let ns = start.elapsed().as_secs_f64() * 1e9 / n as f64;
-    std::hint::black_box(acc);
-    let last = sim.samples().last().map(|s| s[8]).unwrap_or(f64::NAN);
+    let runs = RUNS
+        .iter()
+        .zip(last)
+        .enumerate()
+        .filter_map(|(i, ((name, description, _), sim))| {
+            let sim = sim?;
+            let (wall_s, cpu_s) = (Spread::of(&mut wall[i]), Spread::of(&mut cpu[i]));
+            Some(RunFigures {
+                name,
+                description,
+                wall_s,
+                cpu_s,
+                real_time_factor: options.duration / wall_s.median,
+                real_time_factor_cpu: options.duration / cpu_s.median,
+                evaluations: sim.evaluations(),
+                evaluations_per_second: sim.evaluations() as f64 / options.duration,
+                output_evaluations: sim.output_evaluations(),
+                samples: sim.times().len(),
+            })
+        })
+        .collect();
+    let (open, _) = bench.run(RUNS[0].2, settings, &replay)?;
+    let final_lat_accel = open
+        .channel("ay")
+        .and_then(|c| c.last().copied())
+        .unwrap_or(f64::NAN);
     Ok(BenchReport {
-        ns_per_derivative: ns,
-        real_time_factor: duration / wall,
-        real_time_factor_ticked: duration / wall_ticked,
-        real_time_factor_100hz_output: duration / wall_coarse,
-        evaluations: sim.evaluations(),
-        samples: sim.times().len(),
-        final_lat_accel: last,
+        duration_s: options.duration,
+        repeats: options.repeats.max(1),
+        ns_per_derivative: Spread::of(&mut ns),
+        runs,
+        closed_loop_evaluation_ratio,
+        closed_loop_yaw_rate_error: yaw_rate_error,
+        final_lat_accel,
     })
+}
+
+/// Mean wall time of one derivative evaluation near `state`, ns.
+fn ns_per_derivative(bench: &Bench, state: &crate::model::State) -> f64 {
+    let n = 50_000;
+    let mut acc = 0.0;
+    let mut x = *state;
+    let start = Instant::now();
+    for i in 0..n {
+        x[VY] = state[VY] + 1e-12 * (i % 7) as f64;
+        let e = evaluate(bench.vehicle, std::hint::black_box(&x), &bench.commands);
+        acc += e.derivative[YAW_RATE];
+    }
+    std::hint::black_box(acc);
+    start.elapsed().as_secs_f64() * 1e9 / n as f64
+}
+
+/// Largest |difference| of a channel between two runs sampled alike.
+fn max_difference(a: &Simulation, b: &Simulation, name: &str) -> f64 {
+    match (a.channel(name), b.channel(name)) {
+        (Some(x), Some(y)) => x
+            .iter()
+            .zip(y)
+            .map(|(p, q)| (p - q).abs())
+            .fold(0.0, f64::max),
+        _ => f64::NAN,
+    }
 }

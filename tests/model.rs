@@ -6,7 +6,7 @@
 use yawdyn::model::linear::bicycle_model;
 use yawdyn::model::{Commands, State, VX, WHEEL_SPEED, straight_running};
 use yawdyn::params::{FRONT, GRAVITY, Override, REAR, Vehicle, load_vehicle};
-use yawdyn::sim::{Simulation, SolverSettings, channel_list};
+use yawdyn::sim::{N_CHANNELS, Simulation, SolverSettings};
 
 mod common;
 use common::LINEARISE;
@@ -20,11 +20,9 @@ fn vehicle(file: &str, sets: &[&str]) -> Vehicle {
 }
 
 fn channel(sim: &Simulation, name: &str) -> Vec<f64> {
-    let index = channel_list()
-        .iter()
-        .position(|c| c.0 == name)
-        .unwrap_or_else(|| panic!("no channel {name}"));
-    sim.samples().iter().map(|s| s[index]).collect()
+    sim.channel(name)
+        .unwrap_or_else(|| panic!("no channel {name}"))
+        .to_vec()
 }
 
 fn last(sim: &Simulation, name: &str) -> f64 {
@@ -361,9 +359,7 @@ fn input_steps_from_rest_stay_finite() {
             let result = sim.advance(3.0, &c);
             assert!(result.is_ok(), "{file} {steer} {drive} {brake}: {result:?}");
             assert!(
-                sim.samples()
-                    .iter()
-                    .all(|s| s.iter().all(|x| x.is_finite())),
+                (0..N_CHANNELS).all(|i| sim.channel_data(i).iter().all(|x| x.is_finite())),
                 "{file}: non-finite channel for steer {steer} drive {drive} brake {brake}"
             );
             // Wheel loads never go negative (wheel lift is clamped at zero).
@@ -402,9 +398,9 @@ fn identical_runs_are_bit_identical() {
     let v = vehicle(TRACK_CAR, &[]);
     let a = hold_speed_run(&v, 25.0, 0.8, 3.0);
     let b = hold_speed_run(&v, 25.0, 0.8, 3.0);
-    assert_eq!(a.samples().len(), b.samples().len());
-    for (sa, sb) in a.samples().iter().zip(b.samples()) {
-        for (x, y) in sa.iter().zip(sb) {
+    assert_eq!(a.times().len(), b.times().len());
+    for i in 0..N_CHANNELS {
+        for (x, y) in a.channel_data(i).iter().zip(b.channel_data(i)) {
             assert_eq!(x.to_bits(), y.to_bits());
         }
     }

@@ -1,9 +1,11 @@
-//! `yawdyn bench [VEHICLE] [--json]`: speed of the model. Figures are wall-clock
-//! measurements on this machine, for information; nothing asserts them.
+//! `yawdyn bench [VEHICLE] [--json]`: speed of the model. Figures are
+//! wall-clock and CPU-time measurements on this machine, for information;
+//! nothing asserts them.
 
 use std::path::PathBuf;
 
 use yawdyn::assets::resolve_vehicle;
+use yawdyn::bench::{BenchOptions, Spread};
 use yawdyn::params::load_vehicle;
 use yawdyn::table::{Table, fmt_num};
 
@@ -16,9 +18,15 @@ pub struct Args {
     /// crossover (shipped inside yawdyn, so bench runs from any folder).
     #[arg(default_value = "hybrid_crossover")]
     vehicle: PathBuf,
-    /// Steering-wheel angle for the constant-steer run, deg.
+    /// Steering-wheel angle for the constant-steer runs, deg.
     #[arg(long, default_value_t = 30.0)]
     steer_deg: f64,
+    /// Simulated time of each run, s.
+    #[arg(long, default_value_t = 10.0)]
+    duration: f64,
+    /// Repeats of each measurement (interleaved; min and median are given).
+    #[arg(long, default_value_t = 5)]
+    repeats: usize,
     /// Override a vehicle parameter (repeatable).
     #[arg(long = "set", value_name = "KEY=VALUE")]
     sets: Vec<String>,
@@ -27,47 +35,88 @@ pub struct Args {
     json: bool,
 }
 
+fn ms(s: Spread) -> String {
+    format!(
+        "{} / {}",
+        fmt_num(1e3 * s.min, 3),
+        fmt_num(1e3 * s.median, 3)
+    )
+}
+
 /// Runs `yawdyn bench`.
 pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
+    if !(args.duration.is_finite() && args.duration > 0.0) {
+        return Err(super::bad_input(
+            "--duration must be a positive number of seconds",
+        ));
+    }
     args.vehicle = resolve_vehicle(&args.vehicle)?;
     let overrides = parse_overrides(&args.sets)?;
     let vehicle = load_vehicle(&args.vehicle, &overrides)?;
-    let report = yawdyn::bench::run(&vehicle, args.steer_deg.to_radians())?;
+    let options = BenchOptions {
+        steer: args.steer_deg.to_radians(),
+        duration: args.duration,
+        repeats: args.repeats.max(1),
+    };
+    let report = yawdyn::bench::run(&vehicle, options)?;
     if args.json {
         println!("{}", serde_json::to_string_pretty(&report)?);
         return Ok(Outcome::Success);
     }
+    println!(
+        "{} s of cornering from 80 km/h, {} deg steering-wheel angle; {} interleaved repeats",
+        report.duration_s, args.steer_deg, report.repeats
+    );
+    let mut t = Table::new([
+        "run",
+        "wall ms min / median",
+        "CPU ms min / median",
+        "real-time factor (wall)",
+        "real-time factor (CPU)",
+        "evaluations",
+        "evaluations per s",
+        "output evaluations",
+        "samples",
+    ]);
+    for r in &report.runs {
+        t.row([
+            r.name,
+            &ms(r.wall_s),
+            &ms(r.cpu_s),
+            &fmt_num(r.real_time_factor, 4),
+            &fmt_num(r.real_time_factor_cpu, 4),
+            &r.evaluations.to_string(),
+            &fmt_num(r.evaluations_per_second, 4),
+            &r.output_evaluations.to_string(),
+            &r.samples.to_string(),
+        ]);
+    }
+    print!("{}", t.render());
+    for r in &report.runs {
+        println!("  {}: {}", r.name, r.description);
+    }
     let mut t = Table::new(["measure", "value", "unit"]);
+    let ns = report.ns_per_derivative;
     t.row([
-        "derivative evaluation",
-        &fmt_num(report.ns_per_derivative, 4),
+        "derivative evaluation, min / median",
+        &format!("{} / {}", fmt_num(ns.min, 4), fmt_num(ns.median, 4)),
         "ns",
     ]);
     t.row([
-        "real-time factor, open loop (one segment)",
-        &fmt_num(report.real_time_factor, 4),
+        "closed-loop evaluations / replay as one segment",
+        &fmt_num(report.closed_loop_evaluation_ratio, 4),
         "1",
     ]);
     t.row([
-        "real-time factor, 100 Hz controller ticks",
-        &fmt_num(report.real_time_factor_ticked, 4),
-        "1",
+        "closed-loop yaw-rate error against rtol 1e-10",
+        &fmt_num(report.closed_loop_yaw_rate_error, 3),
+        "rad/s",
     ]);
     t.row([
-        "derivative evaluations (open loop)",
-        &report.evaluations.to_string(),
-        "1",
-    ]);
-    t.row(["samples (1 kHz)", &report.samples.to_string(), "1"]);
-    t.row([
-        "final lateral acceleration",
+        "final lateral acceleration (open loop)",
         &fmt_num(report.final_lat_accel, 4),
         "m/s^2",
     ]);
-    println!(
-        "10 s constant-steer cornering at 80 km/h, {} deg steering-wheel angle",
-        args.steer_deg
-    );
     print!("{}", t.render());
     Ok(Outcome::Success)
 }

@@ -19,9 +19,11 @@
 //! It does not integrate (see [`crate::sim`]) and does not know about
 //! manoeuvres or files.
 
+mod derived;
 pub mod linear;
 mod state;
 
+pub use derived::{CURVATURE_MIN_SPEED, Derived, Pose, derive, sideslip, speed};
 pub use state::*;
 
 use crate::params::DifferentialKind;

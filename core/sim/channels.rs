@@ -1,229 +1,324 @@
-//! The recorded channels: one table of names, units and descriptions, and the
-//! one function that fills a sample from a model evaluation.
+//! The output channels: one table in which each channel is one entry with its
+//! name, SI unit, description and the function that reads its value from
+//! [`Outputs`], the one structure computed per sample.
+//!
+//! Everything that reads a channel by name goes through [`ChannelTable`]: the
+//! results record, the script controller's view, `run_until` conditions and
+//! the script's `evaluate(ch)`. A per-wheel entry is one line here and expands
+//! to four channels `<name>_<wheel>` (wheels in [`WHEEL_NAMES`] order).
 
-use crate::model::{Commands, Evaluation, State, VX, VY, WHEEL_NAMES, WHEEL_SPEED};
-use crate::model::{PITCH, ROLL, X, Y, YAW, YAW_RATE};
+use std::sync::LazyLock;
 
-/// Name, SI unit and description of a recorded channel.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct ChannelInfo {
-    /// Channel name.
+use crate::model::{self, Commands, Derived, Evaluation, Pose, State, WHEEL_NAMES};
+use crate::model::{PITCH, ROLL, SLIP_RATIO, VX, VY, WHEEL_SPEED, X, Y, YAW, YAW_RATE};
+use crate::params::Vehicle;
+
+/// Everything one output sample reads: the state, the commands in force, the
+/// model evaluated there and the derived quantities.
+#[derive(Debug, Clone, Copy)]
+pub struct Outputs {
+    /// Simulation time, s.
+    pub time: f64,
+    /// State.
+    pub state: State,
+    /// Commands in force at `time`.
+    pub commands: Commands,
+    /// The model evaluated at (`state`, `commands`).
+    pub evaluation: Evaluation,
+    /// Speed, sideslip, path curvature and lateral offset.
+    pub derived: Derived,
+}
+
+impl Outputs {
+    /// Evaluates the model at (`state`, `commands`) and derives the rest;
+    /// lateral offset from the line through `reference`.
+    pub fn compute(
+        vehicle: &Vehicle,
+        time: f64,
+        state: &State,
+        commands: &Commands,
+        reference: &Pose,
+    ) -> Self {
+        let evaluation = model::evaluate(vehicle, state, commands);
+        Self::from_evaluation(time, state, commands, evaluation, reference)
+    }
+
+    /// As [`compute`](Self::compute) with the evaluation already at hand.
+    pub fn from_evaluation(
+        time: f64,
+        state: &State,
+        commands: &Commands,
+        evaluation: Evaluation,
+        reference: &Pose,
+    ) -> Self {
+        Self {
+            time,
+            state: *state,
+            commands: *commands,
+            derived: model::derive(state, &evaluation, reference),
+            evaluation,
+        }
+    }
+
+    /// The value of the channel called `name` (e.g. `yaw_rate`, `fz_rear_left`).
+    pub fn channel(&self, name: &str) -> Option<f64> {
+        let table = ChannelTable::get();
+        table.index(name).map(|i| table.read(i, self))
+    }
+}
+
+/// How a channel's value is read from [`Outputs`].
+#[derive(Clone, Copy)]
+pub enum Reader {
+    /// One value.
+    Body(fn(&Outputs) -> f64),
+    /// One value per wheel, index 0..4 in [`WHEEL_NAMES`] order.
+    Wheel(fn(&Outputs, usize) -> f64),
+}
+
+/// One entry of the channel table.
+#[derive(Clone, Copy)]
+pub struct ChannelDef {
+    /// Channel name (the stem for per-wheel channels).
     pub name: &'static str,
     /// SI unit.
     pub unit: &'static str,
-    /// One-line description.
+    /// One-line description (a per-wheel one gets the wheel appended).
     pub description: &'static str,
+    /// How the value is read.
+    pub read: Reader,
 }
 
-const fn ch(name: &'static str, unit: &'static str, description: &'static str) -> ChannelInfo {
-    ChannelInfo {
+const fn body(
+    name: &'static str,
+    unit: &'static str,
+    description: &'static str,
+    read: fn(&Outputs) -> f64,
+) -> ChannelDef {
+    ChannelDef {
         name,
         unit,
         description,
+        read: Reader::Body(read),
     }
 }
 
-/// Channels that are not per wheel.
-const BODY: [ChannelInfo; 24] = [
-    ch("x", "m", "global x position of the CG"),
-    ch("y", "m", "global y position of the CG"),
-    ch(
-        "yaw",
-        "rad",
-        "heading angle (ISO 8855, positive anticlockwise from above)",
-    ),
-    ch("vx", "m/s", "longitudinal velocity of the CG in body axes"),
-    ch(
-        "vy",
-        "m/s",
-        "lateral velocity of the CG in body axes (positive left)",
-    ),
-    ch("speed", "m/s", "magnitude of the CG velocity"),
-    ch(
-        "yaw_rate",
-        "rad/s",
-        "yaw rate (positive anticlockwise from above)",
-    ),
-    ch(
-        "ax",
-        "m/s^2",
-        "longitudinal acceleration of the CG in body axes",
-    ),
-    ch(
-        "ay",
-        "m/s^2",
-        "lateral acceleration of the CG in body axes (positive left)",
-    ),
-    ch(
-        "sideslip",
-        "rad",
-        "vehicle sideslip angle at the CG, atan(vy/vx)",
-    ),
-    ch(
-        "path_curvature",
-        "1/m",
-        "curvature of the CG path (positive turning left)",
-    ),
-    ch(
-        "roll",
-        "rad",
-        "body roll angle (ISO 8855, positive right side down)",
-    ),
-    ch(
-        "pitch",
-        "rad",
-        "body pitch angle (ISO 8855, positive nose down)",
-    ),
-    ch(
-        "steer_wheel_angle",
-        "rad",
-        "steering-wheel angle (positive left)",
-    ),
-    ch("drive_request", "1", "drive request, 0..1"),
-    ch("brake_request", "1", "brake request, 0..1"),
-    ch(
-        "front_share",
-        "1",
-        "front share of the drive request, 0 = all rear",
-    ),
-    ch(
-        "drag_force",
-        "N",
-        "aerodynamic drag along body x (negative when moving forward)",
-    ),
-    ch("downforce", "N", "total aerodynamic downforce"),
-    ch(
-        "drive_torque_front_axle",
-        "N*m",
-        "drive torque at the front wheels, both wheels",
-    ),
-    ch(
-        "drive_torque_rear_axle",
-        "N*m",
-        "drive torque at the rear wheels, both wheels",
-    ),
-    ch(
-        "available_torque_front_axle",
-        "N*m",
-        "drive torque the front unit could give now",
-    ),
-    ch(
-        "available_torque_rear_axle",
-        "N*m",
-        "drive torque the rear unit could give now",
-    ),
-    ch(
-        "lateral_offset",
-        "m",
-        "lateral displacement of the CG from the initial heading line",
-    ),
+const fn wheel(
+    name: &'static str,
+    unit: &'static str,
+    description: &'static str,
+    read: fn(&Outputs, usize) -> f64,
+) -> ChannelDef {
+    ChannelDef {
+        name,
+        unit,
+        description,
+        read: Reader::Wheel(read),
+    }
+}
+
+/// Every output channel, in recording order.
+#[rustfmt::skip]
+pub const CHANNEL_DEFS: [ChannelDef; 33] = [
+    body("x", "m", "global x position of the CG", |o| o.state[X]),
+    body("y", "m", "global y position of the CG", |o| o.state[Y]),
+    body("yaw", "rad", "heading angle (ISO 8855, positive anticlockwise from above)", |o| o.state[YAW]),
+    body("vx", "m/s", "longitudinal velocity of the CG in body axes", |o| o.state[VX]),
+    body("vy", "m/s", "lateral velocity of the CG in body axes (positive left)", |o| o.state[VY]),
+    body("speed", "m/s", "magnitude of the CG velocity", |o| o.derived.speed),
+    body("yaw_rate", "rad/s", "yaw rate (positive anticlockwise from above)", |o| o.state[YAW_RATE]),
+    body("ax", "m/s^2", "longitudinal acceleration of the CG in body axes", |o| o.evaluation.ax),
+    body("ay", "m/s^2", "lateral acceleration of the CG in body axes (positive left)", |o| o.evaluation.ay),
+    body("sideslip", "rad", "vehicle sideslip angle at the CG, atan(vy/vx)", |o| o.derived.sideslip),
+    body("path_curvature", "1/m", "curvature of the CG path (positive turning left)", |o| o.derived.path_curvature),
+    body("roll", "rad", "body roll angle (ISO 8855, positive right side down)", |o| o.state[ROLL]),
+    body("pitch", "rad", "body pitch angle (ISO 8855, positive nose down)", |o| o.state[PITCH]),
+    body("steer_wheel_angle", "rad", "steering-wheel angle (positive left)", |o| o.commands.steer_wheel_angle),
+    body("drive_request", "1", "drive request, 0..1", |o| o.commands.drive_request),
+    body("brake_request", "1", "brake request, 0..1", |o| o.commands.brake_request),
+    body("front_share", "1", "front share of the drive request, 0 = all rear", |o| o.commands.front_share),
+    body("drag_force", "N", "aerodynamic drag along body x (negative when moving forward)", |o| o.evaluation.drag_force),
+    body("downforce", "N", "total aerodynamic downforce", |o| o.evaluation.downforce),
+    body("drive_torque_front_axle", "N*m", "drive torque at the front wheels, both wheels", |o| o.evaluation.axle_drive_torque[0]),
+    body("drive_torque_rear_axle", "N*m", "drive torque at the rear wheels, both wheels", |o| o.evaluation.axle_drive_torque[1]),
+    body("available_torque_front_axle", "N*m", "drive torque the front unit could give now", |o| o.evaluation.axle_available_torque[0]),
+    body("available_torque_rear_axle", "N*m", "drive torque the rear unit could give now", |o| o.evaluation.axle_available_torque[1]),
+    body("lateral_offset", "m", "lateral displacement of the CG from the initial heading line", |o| o.derived.lateral_offset),
+    wheel("fz", "N", "vertical tyre load", |o, i| o.evaluation.wheels[i].fz),
+    wheel("fx", "N", "longitudinal tyre force in wheel axes", |o, i| o.evaluation.wheels[i].fx),
+    wheel("fy", "N", "lateral tyre force in wheel axes", |o, i| o.evaluation.wheels[i].fy),
+    wheel("slip_ratio", "1", "longitudinal slip ratio (positive driving)", |o, i| o.state[SLIP_RATIO + i]),
+    wheel("slip_angle", "rad", "tyre slip angle (positive gives leftward force)", |o, i| o.evaluation.wheels[i].tan_slip_angle.atan()),
+    wheel("wheel_speed", "rad/s", "wheel spin speed", |o, i| o.state[WHEEL_SPEED + i]),
+    wheel("steer_angle", "rad", "road-wheel steer angle (positive left)", |o, i| o.evaluation.wheels[i].steer_angle),
+    wheel("drive_torque", "N*m", "drive torque applied to the wheel", |o, i| o.evaluation.wheels[i].drive_torque),
+    wheel("brake_torque", "N*m", "brake torque applied to the wheel", |o, i| o.evaluation.wheels[i].brake_torque),
 ];
 
-/// Per-wheel channel stems; each is recorded as `<stem>_<wheel>`.
-const WHEEL: [ChannelInfo; 9] = [
-    ch("fz", "N", "vertical tyre load"),
-    ch("fx", "N", "longitudinal tyre force in wheel axes"),
-    ch("fy", "N", "lateral tyre force in wheel axes"),
-    ch(
-        "slip_ratio",
-        "1",
-        "longitudinal slip ratio (positive driving)",
-    ),
-    ch(
-        "slip_angle",
-        "rad",
-        "tyre slip angle (positive gives leftward force)",
-    ),
-    ch("wheel_speed", "rad/s", "wheel spin speed"),
-    ch(
-        "steer_angle",
-        "rad",
-        "road-wheel steer angle (positive left)",
-    ),
-    ch("drive_torque", "N*m", "drive torque applied to the wheel"),
-    ch("brake_torque", "N*m", "brake torque applied to the wheel"),
-];
+/// Number of recorded channels, per-wheel entries counted four times (time excluded).
+pub const N_CHANNELS: usize = {
+    let mut n = 0;
+    let mut i = 0;
+    while i < CHANNEL_DEFS.len() {
+        n += match CHANNEL_DEFS[i].read {
+            Reader::Body(_) => 1,
+            Reader::Wheel(_) => WHEEL_NAMES.len(),
+        };
+        i += 1;
+    }
+    n
+};
 
-/// Number of recorded channels (time excluded).
-pub const N_CHANNELS: usize = BODY.len() + 4 * WHEEL.len();
+/// One value of every channel, in table order.
+pub type Row = [f64; N_CHANNELS];
 
-/// One sample of every channel.
-pub type Sample = [f64; N_CHANNELS];
+/// One recorded channel of the expanded table.
+#[derive(Debug, Clone)]
+pub struct ChannelInfo {
+    /// Full name, e.g. `yaw_rate` or `fz_front_left`.
+    pub name: String,
+    /// SI unit.
+    pub unit: &'static str,
+    /// One-line description.
+    pub description: String,
+}
 
-/// The full channel list, in recording order, with per-wheel names expanded.
+/// The expanded channel table: per-wheel entries as four channels each.
+pub struct ChannelTable {
+    info: Vec<ChannelInfo>,
+    /// Entry and wheel of each channel.
+    source: Vec<(Reader, usize)>,
+}
+
+static TABLE: LazyLock<ChannelTable> = LazyLock::new(ChannelTable::build);
+
+impl ChannelTable {
+    /// The table (built once).
+    pub fn get() -> &'static ChannelTable {
+        &TABLE
+    }
+
+    fn build() -> Self {
+        let mut info = Vec::with_capacity(N_CHANNELS);
+        let mut source = Vec::with_capacity(N_CHANNELS);
+        for def in &CHANNEL_DEFS {
+            match def.read {
+                Reader::Body(_) => {
+                    info.push(ChannelInfo {
+                        name: def.name.to_string(),
+                        unit: def.unit,
+                        description: def.description.to_string(),
+                    });
+                    source.push((def.read, 0));
+                }
+                Reader::Wheel(_) => {
+                    for (i, wheel) in WHEEL_NAMES.iter().enumerate() {
+                        info.push(ChannelInfo {
+                            name: format!("{}_{wheel}", def.name),
+                            unit: def.unit,
+                            description: format!(
+                                "{}, {}",
+                                def.description,
+                                wheel.replace('_', " ")
+                            ),
+                        });
+                        source.push((def.read, i));
+                    }
+                }
+            }
+        }
+        Self { info, source }
+    }
+
+    /// Number of channels ([`N_CHANNELS`]).
+    pub fn len(&self) -> usize {
+        self.info.len()
+    }
+
+    /// Always false: there are channels.
+    pub fn is_empty(&self) -> bool {
+        self.info.is_empty()
+    }
+
+    /// Name, unit and description of every channel, in recording order.
+    pub fn channels(&self) -> &[ChannelInfo] {
+        &self.info
+    }
+
+    /// Position of the channel called `name`.
+    pub fn index(&self, name: &str) -> Option<usize> {
+        self.info.iter().position(|c| c.name == name)
+    }
+
+    /// Value of channel `index` in `outputs`.
+    #[inline]
+    pub fn read(&self, index: usize, outputs: &Outputs) -> f64 {
+        match self.source[index] {
+            (Reader::Body(f), _) => f(outputs),
+            (Reader::Wheel(f), wheel) => f(outputs, wheel),
+        }
+    }
+
+    /// Every channel's value in `outputs`, in recording order.
+    pub fn row(&self, outputs: &Outputs) -> Row {
+        let mut row = [0.0; N_CHANNELS];
+        let mut k = 0;
+        for def in &CHANNEL_DEFS {
+            match def.read {
+                Reader::Body(f) => {
+                    row[k] = f(outputs);
+                    k += 1;
+                }
+                Reader::Wheel(f) => {
+                    for i in 0..WHEEL_NAMES.len() {
+                        row[k] = f(outputs, i);
+                        k += 1;
+                    }
+                }
+            }
+        }
+        row
+    }
+}
+
+/// The full channel list, in recording order: (name, unit, description).
 pub fn channel_list() -> Vec<(String, &'static str, String)> {
-    let mut out: Vec<(String, &'static str, String)> = BODY
+    ChannelTable::get()
+        .channels()
         .iter()
-        .map(|c| (c.name.to_string(), c.unit, c.description.to_string()))
-        .collect();
-    for stem in WHEEL {
-        for wheel in WHEEL_NAMES {
-            out.push((
-                format!("{}_{wheel}", stem.name),
-                stem.unit,
-                format!("{}, {}", stem.description, wheel.replace('_', " ")),
-            ));
-        }
-    }
-    out
+        .map(|c| (c.name.clone(), c.unit, c.description.clone()))
+        .collect()
 }
 
-/// Fills one sample. `initial` is (x0, y0, yaw0) of the run, for `lateral_offset`.
-pub fn sample(x: &State, c: &Commands, e: &Evaluation, initial: (f64, f64, f64)) -> Sample {
-    let mut s = [0.0; N_CHANNELS];
-    let (vx, vy) = (x[VX], x[VY]);
-    let speed = vx.hypot(vy);
-    let curvature = if speed > 1e-3 {
-        (vx * e.ay - vy * e.ax) / (speed * speed * speed)
-    } else {
-        0.0
-    };
-    let (x0, y0, yaw0) = initial;
-    let offset = -(x[X] - x0) * yaw0.sin() + (x[Y] - y0) * yaw0.cos();
-    let body = [
-        x[X],
-        x[Y],
-        x[YAW],
-        vx,
-        vy,
-        speed,
-        x[YAW_RATE],
-        e.ax,
-        e.ay,
-        vy.atan2(vx.abs().max(1e-9)),
-        curvature,
-        x[ROLL],
-        x[PITCH],
-        c.steer_wheel_angle,
-        c.drive_request,
-        c.brake_request,
-        c.front_share,
-        e.drag_force,
-        e.downforce,
-        e.axle_drive_torque[0],
-        e.axle_drive_torque[1],
-        e.axle_available_torque[0],
-        e.axle_available_torque[1],
-        offset,
-    ];
-    s[..BODY.len()].copy_from_slice(&body);
-    let mut k = BODY.len();
-    for stem in 0..WHEEL.len() {
-        for i in 0..4 {
-            let w = &e.wheels[i];
-            s[k] = match stem {
-                0 => w.fz,
-                1 => w.fx,
-                2 => w.fy,
-                3 => w.slip_ratio,
-                4 => w.tan_slip_angle.atan(),
-                5 => x[WHEEL_SPEED + i],
-                6 => w.steer_angle,
-                7 => w.drive_torque,
-                _ => w.brake_torque,
-            };
-            k += 1;
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Names are unique, units are given, and a per-wheel entry reads each
+    /// wheel (the table and the values cannot drift apart by position).
+    #[test]
+    fn table_is_consistent() {
+        let t = ChannelTable::get();
+        assert_eq!(t.len(), N_CHANNELS);
+        for (i, c) in t.channels().iter().enumerate() {
+            assert_eq!(t.index(&c.name), Some(i), "{} is unique", c.name);
+            assert!(
+                !c.unit.is_empty() && !c.description.is_empty(),
+                "{}",
+                c.name
+            );
         }
+        let v = crate::params::load_vehicle("scripts/vehicles/hybrid_crossover.toml".as_ref(), &[])
+            .unwrap();
+        let mut x = model::straight_running(&v, 20.0);
+        x[WHEEL_SPEED + 2] = 70.0;
+        let o = Outputs::compute(&v, 0.0, &x, &Commands::neutral(&v), &Pose::default());
+        let row = t.row(&o);
+        for (i, value) in row.iter().enumerate() {
+            assert_eq!(value.to_bits(), t.read(i, &o).to_bits());
+        }
+        assert_eq!(o.channel("wheel_speed_rear_left"), Some(70.0));
+        assert_eq!(o.channel("speed"), Some(20.0));
+        assert_eq!(o.channel("nope"), None);
     }
-    s
 }

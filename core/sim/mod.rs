@@ -1,39 +1,97 @@
 //! Integration of the vehicle model in time with `ode_solvers`, between
-//! discrete controller ticks.
+//! discrete controller ticks, and the output samples.
 //!
-//! A [`Simulation`] owns the state and the recorded samples. [`Simulation::advance`]
-//! integrates up to a time with the commands given by an [`InputSource`]
-//! (zero-order hold for controller outputs is the caller's business: the
-//! source is a pure function of time within one call). Samples are taken at
-//! exact multiples of the sample period. Dopri5 integrates whole segments and
-//! samples from its dense (continuous) output; Dop853 and Rk4 stop at every
-//! sample time.
+//! A [`Simulation`] owns the state, the integrator and the recorded samples.
+//! [`Simulation::advance`] integrates up to the next tick with the commands an
+//! [`InputSource`] gives (held controller outputs and open-loop signals of
+//! time). Samples are taken at exact multiples of the sample period; every
+//! output channel is defined once, in [`ChannelTable`], and read from one
+//! [`Outputs`] structure per sample.
+//!
+//! # Stepping (Dopri5, the default)
+//!
+//! The integration carries its step size and its first-same-as-last
+//! derivative across ticks, and does not stop at a tick whose inputs did not
+//! change ([`InputSource::revision`]). One `advance(t_end, inputs)`, from the
+//! current time t with state x(t):
+//!
+//! ```text
+//! rev := inputs.revision()
+//! hold:      if rev is Some and equals the previous call's rev:
+//!                keep the step in flight (it may already reach past t) and
+//!                the derivative at its end
+//!            else:
+//!                restart at (t, x(t)): drop what was integrated past t and the
+//!                stored derivative, keep the step size; f(t, x(t)) with the new inputs
+//! integrate: while the integration has not reached t_end:
+//!                one accepted Dopri5 step with open-loop signals evaluated at the
+//!                solver's stage times; it may pass t_end only if rev was unchanged
+//!                (then the next tick most likely keeps the inputs too), else it is
+//!                cut to end exactly at t_end
+//!                sample the step
+//! sample:    every k/rate in the step, up to t_end:
+//!                at the step's end: the solver's own evaluation there
+//!                else if the step holds more than 4 samples, the commands are the
+//!                same at its 5 nodes and the interpolant matches an exact evaluation
+//!                at a check point (INTERPOLATION_CHECK): every channel interpolated
+//!                (degree 4) from exact evaluations at the nodes (ends and 3 interior)
+//!                else: the model at the dense-output state
+//! state:     x(t_end) := the step's end if it ends at t_end, else its dense output
+//!            t := t_end
+//! ```
+//!
+//! The caller (the script runner) does, per tick: drivers and controller read
+//! x(t) ([`Simulation::outputs_now`]) → held commands → `advance(t + tick)` →
+//! `run_until` conditions on x(t + tick) → stop or next tick. A step that
+//! passed a tick whose commands then changed is cut back to that tick: the
+//! controller saw x(t) from the dense output, which depends only on the inputs
+//! before t to the accuracy of the solution.
+//!
+//! Dop853 and Rk4 stop at every sample time and tick (`stepwise.rs`).
 //!
 //! A non-finite state derivative or a solver failure stops the run with the
 //! time and the offending state named; everything sampled so far is kept.
 
 mod channels;
+mod continuous;
+mod plant;
+mod recorder;
+mod stepwise;
+#[cfg(test)]
+mod test;
 
-pub use channels::{ChannelInfo, N_CHANNELS, Sample, channel_list, sample};
+pub use channels::{
+    CHANNEL_DEFS, ChannelDef, ChannelInfo, ChannelTable, N_CHANNELS, Outputs, Reader, Row,
+    channel_list,
+};
+pub use continuous::{INTERPOLATION_CHECK, MAX_STEP};
+pub use recorder::{CHECK_POINT, NODES, interpolation_holds, lagrange_weights};
 
-use std::cell::Cell;
 use std::sync::Arc;
 
-use ode_solvers::continuous_output_model::ContinuousOutputModel;
-use ode_solvers::dop_shared::{OutputType, System};
-use ode_solvers::{Dop853, Dopri5, Rk4};
 use serde::{Deserialize, Serialize};
 
-use crate::model::{Commands, STATE_NAMES, State, X, Y, YAW, evaluate};
+use crate::model::{Commands, Evaluation, Pose, STATE_NAMES, State, evaluate};
 use crate::params::Vehicle;
 use crate::results::{Channel, Provenance, RunRecord, RunStatus};
+use continuous::Continuous;
+use plant::Captured;
+use recorder::Recorder;
 
-/// Most adaptive steps the solver may take within one `advance` call (one
+/// Most accepted steps the solver may take within one `advance` call (one
 /// controller tick or open-loop segment). A run that needs more is stiff beyond
 /// what an explicit method should be asked to do (e.g. an absurd parameter), and
 /// stops with a solver failure naming the fastest-changing state instead of
 /// running for minutes.
 pub const MAX_STEPS_PER_SEGMENT: u32 = 100_000;
+
+/// Whether two times are the same to rounding: within 1e-12 relative (and
+/// 1e-12 s absolute), far below any sample period or step. A tick time
+/// `k as f64 * 0.01` and a sample time `k as f64 / 100.0` may differ in
+/// the last bit; no step is taken across such a gap.
+pub(crate) fn same_time(a: f64, b: f64) -> bool {
+    (a - b).abs() <= 1e-12 * (1.0 + a.abs().max(b.abs()))
+}
 
 /// Integration method.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
@@ -113,6 +171,35 @@ impl InputSource for Commands {
     fn commands(&self, _t: f64) -> Commands {
         *self
     }
+
+    /// A hash of the bit patterns of every field: equal commands give equal
+    /// revisions; different ones differ unless 64-bit hashes collide.
+    fn revision(&self) -> Option<u64> {
+        Some(commands_hash(self))
+    }
+}
+
+/// FxHash-style mix of the bit patterns of every command field.
+fn commands_hash(c: &Commands) -> u64 {
+    const K: u64 = 0x517c_c1b7_2722_0a95;
+    let mix = |h: u64, v: f64| (h.rotate_left(5) ^ v.to_bits()).wrapping_mul(K);
+    let mut h = 0;
+    for v in [
+        c.steer_wheel_angle,
+        c.drive_request,
+        c.brake_request,
+        c.front_share,
+    ] {
+        h = mix(h, v);
+    }
+    match c.axle_torque {
+        Some([front, rear]) => h = mix(mix(mix(h, 1.0), front), rear),
+        None => h = mix(h, 0.0),
+    }
+    for v in c.wheel_torque.iter().chain(&c.wheel_brake) {
+        h = mix(h, *v);
+    }
+    h
 }
 
 /// Why a run stopped early.
@@ -151,30 +238,6 @@ impl SimError {
     }
 }
 
-/// The ODE right-hand side handed to `ode_solvers`: model, vehicle and inputs.
-struct Plant<'a, I: InputSource + ?Sized> {
-    vehicle: &'a Vehicle,
-    inputs: &'a I,
-    /// First non-finite derivative seen: (time, state index).
-    bad: &'a Cell<Option<(f64, usize)>>,
-}
-
-impl<I: InputSource + ?Sized> System<f64, State> for Plant<'_, I> {
-    fn system(&self, t: f64, x: &State, dx: &mut State) {
-        let c = self.inputs.commands(t);
-        *dx = evaluate(self.vehicle, x, &c).derivative;
-        if self.bad.get().is_none() {
-            if let Some(i) = dx.iter().chain(x.iter()).position(|v| !v.is_finite()) {
-                self.bad.set(Some((t, i % crate::model::N_STATES)));
-            }
-        }
-    }
-
-    fn solout(&mut self, _t: f64, _x: &State, _dx: &State) -> bool {
-        self.bad.get().is_some()
-    }
-}
-
 /// A vehicle handed to a [`Simulation`]: a reference (copied once) or a shared `Arc`.
 pub trait SharedVehicle {
     /// The vehicle as a shared pointer.
@@ -193,22 +256,48 @@ impl SharedVehicle for Arc<Vehicle> {
     }
 }
 
-/// A running simulation: vehicle, state, time and the samples recorded so far.
+/// A running simulation: vehicle, state, time, integrator and the samples
+/// recorded so far.
+///
+/// ```
+/// use yawdyn::model::{Commands, straight_running};
+/// use yawdyn::params::load_vehicle;
+/// use yawdyn::sim::{Simulation, SolverSettings};
+///
+/// let v = load_vehicle("scripts/vehicles/hybrid_crossover.toml".as_ref(), &[]).unwrap();
+/// let mut sim = Simulation::new(&v, straight_running(&v, 20.0), SolverSettings::default(), 100.0)
+///     .unwrap();
+/// let mut commands = Commands::neutral(&v);
+/// commands.steer_wheel_angle = 0.5;
+/// for tick in 1..=100 {
+///     sim.advance(tick as f64 * 0.01, &commands).unwrap(); // 100 Hz ticks, 1 s
+/// }
+/// let yaw_rate = sim.channel("yaw_rate").unwrap();
+/// assert_eq!(yaw_rate.len(), 101);
+/// assert!(yaw_rate[100] > 0.1, "turning left");
+/// ```
 pub struct Simulation {
     vehicle: Arc<Vehicle>,
     settings: SolverSettings,
+    /// Time the caller advanced to, s, and the state there.
     time: f64,
     state: State,
-    sample_period: f64,
     sample_rate: f64,
-    /// Index of the next sample to record (its time is index × period).
-    next_sample: u64,
-    /// Step-size hint for the next Dopri5 segment, s.
-    step_hint: f64,
-    initial_pose: (f64, f64, f64),
-    times: Vec<f64>,
-    samples: Vec<Sample>,
+    /// The line `lateral_offset` is measured from: the initial pose.
+    reference: Pose,
+    /// Interpolate the samples of long steps (see the module docs).
+    interpolate_output: bool,
+    /// Dopri5's integration state (`None` for the other methods).
+    continuous: Option<Box<Continuous>>,
+    /// Step size Dop853 proposed at its last stop, s.
+    dop853_step: f64,
+    recorder: Recorder,
+    /// Derivative evaluations made by the solver.
     evaluations: u64,
+    /// Model evaluations made only for output samples.
+    output_evaluations: u64,
+    /// An exact evaluation at (time, state), if one was made.
+    exact: Option<Captured>,
     failure: Option<SimError>,
 }
 
@@ -236,19 +325,22 @@ impl Simulation {
                 STATE_NAMES[i].0
             )));
         }
+        let continuous = (settings.kind == SolverKind::Dopri5)
+            .then(|| Box::new(Continuous::new(0.0, initial, settings.rtol, settings.atol)));
         Ok(Self {
             vehicle: vehicle.into_shared(),
             settings,
             time: 0.0,
             state: initial,
-            sample_period: 1.0 / sample_rate_hz,
             sample_rate: sample_rate_hz,
-            next_sample: 0,
-            step_hint: 0.0,
-            initial_pose: (initial[X], initial[Y], initial[YAW]),
-            times: Vec::new(),
-            samples: Vec::new(),
+            reference: Pose::of(&initial),
+            interpolate_output: true,
+            continuous,
+            dop853_step: 0.0,
+            recorder: Recorder::new(sample_rate_hz),
             evaluations: 0,
+            output_evaluations: 0,
+            exact: None,
             failure: None,
         })
     }
@@ -268,22 +360,39 @@ impl Simulation {
         &self.state
     }
 
-    /// Replaces the current state (e.g. to set initial conditions before the first advance).
+    /// Replaces the current state (e.g. to set initial conditions before the
+    /// first advance); the integration restarts from it.
     pub fn set_state(&mut self, state: State) {
         self.state = state;
-        if self.times.is_empty() {
-            self.initial_pose = (state[X], state[Y], state[YAW]);
+        self.exact = None;
+        if let Some(c) = &mut self.continuous {
+            c.restart(self.time, state);
         }
+        if self.recorder.times().is_empty() {
+            self.reference = Pose::of(&state);
+        }
+    }
+
+    /// Whether samples inside a step that holds more than 4 of them are
+    /// interpolated from exact evaluations at 5 nodes (default true; see the
+    /// module docs). `false` evaluates the model at every sample.
+    pub fn set_output_interpolation(&mut self, on: bool) {
+        self.interpolate_output = on;
     }
 
     /// Sample period, s.
     pub fn sample_period(&self) -> f64 {
-        self.sample_period
+        1.0 / self.sample_rate
     }
 
-    /// Number of derivative evaluations so far.
+    /// Number of derivative evaluations the solver made so far.
     pub fn evaluations(&self) -> u64 {
         self.evaluations
+    }
+
+    /// Number of model evaluations made only for output samples so far.
+    pub fn output_evaluations(&self) -> u64 {
+        self.output_evaluations
     }
 
     /// The failure that stopped the run, if any.
@@ -293,29 +402,36 @@ impl Simulation {
 
     /// Sample times recorded so far, s.
     pub fn times(&self) -> &[f64] {
-        &self.times
+        self.recorder.times()
     }
 
-    /// Samples recorded so far (one per entry of [`times`](Self::times)).
-    pub fn samples(&self) -> &[Sample] {
-        &self.samples
+    /// The samples of the channel called `name` so far (one per entry of
+    /// [`times`](Self::times)).
+    pub fn channel(&self, name: &str) -> Option<&[f64]> {
+        ChannelTable::get()
+            .index(name)
+            .map(|i| self.recorder.channel(i))
+    }
+
+    /// The samples of channel `index` (in [`ChannelTable`] order) so far.
+    pub fn channel_data(&self, index: usize) -> &[f64] {
+        self.recorder.channel(index)
     }
 
     /// Integrates from the current time to `t_end` with the given inputs,
-    /// recording every sample time in (current time, t_end] (and t = 0 on the first call).
+    /// recording every sample time in (current time, t_end] (and t = 0 on the
+    /// first call). See the module docs for how ticks are stepped.
     pub fn advance(&mut self, t_end: f64, inputs: &dyn InputSource) -> Result<(), SimError> {
         if let Some(f) = &self.failure {
             return Err(f.clone());
         }
-        if self.times.is_empty() && self.next_sample == 0 {
-            self.record(0.0, self.state, inputs);
-            self.next_sample = 1;
-        }
-        if !(t_end.is_finite()) || t_end <= self.time + 1e-12 {
+        let first = self.recorder.times().is_empty();
+        if !t_end.is_finite() || (t_end <= self.time + 1e-12 && !first) {
             return Ok(());
         }
+        let t_end = t_end.max(self.time);
         let result = match self.settings.kind {
-            SolverKind::Dopri5 => self.advance_dense(t_end, inputs),
+            SolverKind::Dopri5 => self.advance_continuous(t_end, inputs),
             SolverKind::Dop853 | SolverKind::Rk4 => self.advance_stepwise(t_end, inputs),
         };
         if let Err(e) = &result {
@@ -324,17 +440,33 @@ impl Simulation {
         result
     }
 
-    /// Time of sample `k`, s: k / rate (divided, not multiplied by the period,
-    /// so that e.g. sample 35 at 200 Hz is exactly 0.175).
-    fn sample_time(&self, k: u64) -> f64 {
-        k as f64 / self.sample_rate
+    /// The model evaluated at the current state with `commands` (the solver's
+    /// own evaluation when it made one there with these commands).
+    pub fn evaluate_now(&self, commands: &Commands) -> Evaluation {
+        match self.exact {
+            Some(c)
+                if c.commands == *commands
+                    && c.state == self.state
+                    && same_time(c.t, self.time) =>
+            {
+                c.evaluation
+            }
+            _ => evaluate(&self.vehicle, &self.state, commands),
+        }
     }
 
-    fn record(&mut self, t: f64, x: State, inputs: &dyn InputSource) {
-        let c = inputs.commands(t);
-        let e = evaluate(&self.vehicle, &x, &c);
-        self.times.push(t);
-        self.samples.push(sample(&x, &c, &e, self.initial_pose));
+    /// Every output quantity at the current state with `commands`: what a
+    /// controller and `run_until` conditions read, by field or by channel name
+    /// ([`Outputs::channel`]).
+    pub fn outputs_now(&self, commands: &Commands) -> Outputs {
+        let evaluation = self.evaluate_now(commands);
+        Outputs::from_evaluation(
+            self.time,
+            &self.state,
+            commands,
+            evaluation,
+            &self.reference,
+        )
     }
 
     fn check_finite(&self, t: f64, x: &State) -> Result<(), SimError> {
@@ -362,192 +494,10 @@ impl Simulation {
         }
     }
 
-    /// Dopri5 over the whole segment, sampling from the continuous output model.
-    fn advance_dense(&mut self, t_end: f64, inputs: &dyn InputSource) -> Result<(), SimError> {
-        let flag = Cell::new(None);
-        let plant = Plant {
-            vehicle: &self.vehicle,
-            inputs,
-            bad: &flag,
-        };
-        let span = t_end - self.time;
-        let h0 = if self.step_hint > 0.0 {
-            self.step_hint.min(span)
-        } else {
-            0.0
-        };
-        let mut solver = Dopri5::from_param(
-            plant,
-            self.time,
-            t_end,
-            span,
-            self.state,
-            self.settings.rtol,
-            self.settings.atol,
-            0.9,
-            0.04,
-            0.2,
-            10.0,
-            span,
-            h0,
-            MAX_STEPS_PER_SEGMENT,
-            u32::MAX,
-            OutputType::Continuous,
-        );
-        let mut dense = ContinuousOutputModel::default();
-        let outcome = solver.integrate_with_continuous_output_model(&mut dense);
-        let (bad, stats) = (flag.get(), outcome.as_ref().ok().copied());
-        if let Some(s) = stats {
-            self.evaluations += u64::from(s.num_eval);
-            if s.accepted_steps > 0 {
-                self.step_hint = span / f64::from(s.accepted_steps);
-            }
-        }
-        let last = solver.y_out().last().copied();
-        let last_t = solver.x_out().last().copied().unwrap_or(self.time);
-        drop(solver);
-        // Record every sample the solver covered.
-        let covered_end = if bad.is_some() || outcome.is_err() {
-            last_t
-        } else {
-            t_end
-        };
-        while self.sample_time(self.next_sample) <= covered_end + 1e-9 * self.sample_period {
-            let ts = self.sample_time(self.next_sample);
-            let x = if (ts - t_end).abs() <= 1e-9 * self.sample_period {
-                last.unwrap_or(self.state)
-            } else {
-                match dense.evaluate(ts) {
-                    Some(x) => x,
-                    None => break,
-                }
-            };
-            if x.iter().any(|v| !v.is_finite()) {
-                break;
-            }
-            self.record(ts, x, inputs);
-            self.next_sample += 1;
-        }
-        if let Some((time, i)) = bad {
-            return Err(SimError::NonFinite {
-                time,
-                state: STATE_NAMES[i].0,
-            });
-        }
-        if let Err(e) = outcome {
-            return Err(self.solver_error(e.to_string(), last_t, inputs));
-        }
-        let x_end = last.unwrap_or(self.state);
-        self.check_finite(t_end, &x_end)?;
-        self.state = x_end;
-        self.time = t_end;
-        Ok(())
-    }
-
-    /// Dop853 or Rk4, stopping at every sample time in the segment.
-    fn advance_stepwise(&mut self, t_end: f64, inputs: &dyn InputSource) -> Result<(), SimError> {
-        while self.time < t_end - 1e-12 {
-            let next_sample_t = self.sample_time(self.next_sample);
-            let stop = next_sample_t.min(t_end);
-            let stop = if stop <= self.time + 1e-12 {
-                t_end
-            } else {
-                stop
-            };
-            let flag = Cell::new(None);
-            let plant = Plant {
-                vehicle: &self.vehicle,
-                inputs,
-                bad: &flag,
-            };
-            let span = stop - self.time;
-            let (outcome, last) = match self.settings.kind {
-                SolverKind::Rk4 => {
-                    let n = (span / self.settings.fixed_step).ceil().max(1.0);
-                    let mut s = Rk4::new(plant, self.time, self.state, stop, span / n);
-                    let o = s.integrate();
-                    (o, s.y_out().last().copied())
-                }
-                _ => {
-                    let mut s = Dop853::from_param(
-                        plant,
-                        self.time,
-                        stop,
-                        span,
-                        self.state,
-                        self.settings.rtol,
-                        self.settings.atol,
-                        0.9,
-                        0.0,
-                        0.333,
-                        6.0,
-                        span,
-                        if self.step_hint > 0.0 {
-                            self.step_hint.min(span)
-                        } else {
-                            0.0
-                        },
-                        MAX_STEPS_PER_SEGMENT,
-                        u32::MAX,
-                        OutputType::Sparse,
-                    );
-                    let o = s.integrate();
-                    if let Ok(st) = &o {
-                        if st.accepted_steps > 0 {
-                            self.step_hint = span / f64::from(st.accepted_steps);
-                        }
-                    }
-                    (o, s.y_out().last().copied())
-                }
-            };
-            if let Ok(s) = &outcome {
-                self.evaluations += u64::from(s.num_eval);
-            }
-            if let Some((time, i)) = flag.get() {
-                return Err(SimError::NonFinite {
-                    time,
-                    state: STATE_NAMES[i].0,
-                });
-            }
-            if let Err(e) = outcome {
-                return Err(self.solver_error(e.to_string(), self.time, inputs));
-            }
-            let x = last.unwrap_or(self.state);
-            self.check_finite(stop, &x)?;
-            self.state = x;
-            self.time = stop;
-            if (stop - next_sample_t).abs() <= 1e-9 * self.sample_period {
-                self.record(next_sample_t, x, inputs);
-                self.next_sample += 1;
-            }
-        }
-        self.time = t_end;
-        Ok(())
-    }
-
-    /// The model evaluated at the current state with `commands`.
-    pub fn evaluate_now(&self, commands: &Commands) -> crate::model::Evaluation {
-        evaluate(&self.vehicle, &self.state, commands)
-    }
-
-    /// Turns the recorded samples into a [`RunRecord`] with the given provenance;
-    /// the status is `failed` when the run stopped early.
+    /// Turns the recorded samples into a [`RunRecord`] with the given
+    /// provenance (the channel vectors move, nothing is copied); the status is
+    /// `failed` when the run stopped early.
     pub fn into_record(self, provenance: Provenance) -> RunRecord {
-        let list = channel_list();
-        let mut channels: Vec<Channel> = list
-            .into_iter()
-            .map(|(name, unit, description)| Channel {
-                name,
-                unit: unit.to_string(),
-                description,
-                data: Vec::with_capacity(self.samples.len()),
-            })
-            .collect();
-        for s in &self.samples {
-            for (c, v) in channels.iter_mut().zip(s.iter()) {
-                c.data.push(*v);
-            }
-        }
         let status = match &self.failure {
             None => RunStatus::Completed,
             Some(e) => RunStatus::Failed {
@@ -555,123 +505,25 @@ impl Simulation {
                 time_s: e.time(),
             },
         };
+        let (time, data) = self.recorder.into_parts();
+        let channels = ChannelTable::get()
+            .channels()
+            .iter()
+            .zip(data)
+            .map(|(info, data)| Channel {
+                name: info.name.clone(),
+                unit: info.unit.to_string(),
+                description: info.description.clone(),
+                data,
+            })
+            .collect();
         RunRecord {
-            time: self.times,
+            time,
             channels,
             provenance,
             status,
             metrics: Vec::new(),
             criteria: Vec::new(),
         }
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::model::{VX, YAW_RATE, straight_running};
-    use crate::params::load_vehicle;
-
-    fn crossover() -> Vehicle {
-        load_vehicle("scripts/vehicles/hybrid_crossover.toml".as_ref(), &[]).unwrap()
-    }
-
-    fn turning(v: &Vehicle) -> Commands {
-        let mut c = Commands::neutral(v);
-        c.steer_wheel_angle = 0.5;
-        c.drive_request = 0.2;
-        c
-    }
-
-    /// The three integrators solve the same equations: Dop853 and Rk4 agree
-    /// with Dopri5 to well within the tolerances used (a numerical cross-check).
-    #[test]
-    fn integrators_agree() {
-        let v = crossover();
-        let c = turning(&v);
-        let run = |kind| {
-            let settings = SolverSettings {
-                kind,
-                rtol: 1e-8,
-                atol: 1e-8,
-                fixed_step: 2e-4,
-            };
-            let mut sim = Simulation::new(&v, straight_running(&v, 20.0), settings, 100.0).unwrap();
-            sim.advance(3.0, &c).unwrap();
-            assert_eq!(sim.times().len(), 301, "{kind:?} samples");
-            *sim.state()
-        };
-        let a = run(SolverKind::Dopri5);
-        for kind in [SolverKind::Dop853, SolverKind::Rk4] {
-            let b = run(kind);
-            for i in [VX, YAW_RATE] {
-                assert!(
-                    (a[i] - b[i]).abs() < 1e-5 * a[i].abs().max(1.0),
-                    "{kind:?} {i}: {} vs {}",
-                    a[i],
-                    b[i]
-                );
-            }
-        }
-    }
-
-    /// Samples land on exact multiples of the sample period whatever the tick length.
-    #[test]
-    fn samples_at_exact_period_multiples() {
-        let v = crossover();
-        let c = turning(&v);
-        let mut sim = Simulation::new(
-            &v,
-            straight_running(&v, 20.0),
-            SolverSettings::default(),
-            200.0,
-        )
-        .unwrap();
-        let mut t = 0.0;
-        for _ in 0..37 {
-            t += 0.0137;
-            sim.advance(t, &c).unwrap();
-        }
-        for (k, time) in sim.times().iter().enumerate() {
-            assert_eq!(*time, k as f64 / 200.0);
-        }
-        assert_eq!(sim.times().len(), (t * 200.0).floor() as usize + 1);
-    }
-
-    /// A non-finite value stops the run with the time and the state named, and
-    /// keeps every sample computed before.
-    #[test]
-    fn non_finite_input_stops_with_time_and_state() {
-        let v = crossover();
-        let c = turning(&v);
-        let mut sim = Simulation::new(
-            &v,
-            straight_running(&v, 20.0),
-            SolverSettings::default(),
-            100.0,
-        )
-        .unwrap();
-        sim.advance(1.0, &c).unwrap();
-        let mut bad = c;
-        bad.steer_wheel_angle = f64::NAN;
-        let err = sim.advance(2.0, &bad).unwrap_err();
-        match &err {
-            SimError::NonFinite { time, state } => {
-                assert!((1.0..=2.0).contains(time), "{time}");
-                assert!(STATE_NAMES.iter().any(|(n, _)| n == state));
-            }
-            other => panic!("unexpected {other:?}"),
-        }
-        assert!(
-            sim.times().len() >= 101,
-            "samples up to the failure are kept"
-        );
-        assert!(
-            sim.samples()
-                .iter()
-                .all(|s| s.iter().all(|x| x.is_finite()))
-        );
-        let record = sim.into_record(Provenance::default());
-        assert!(matches!(record.status, RunStatus::Failed { .. }));
     }
 }

@@ -40,7 +40,7 @@ use std::sync::Arc;
 
 use super::setup::RunConfig;
 use crate::manoeuvre::{Path, PathFollower};
-use crate::model::{X, Y, YAW, straight_running};
+use crate::model::straight_running;
 use crate::results::{Provenance, RunRecord, RunStatus};
 use crate::sim::{InputSource, SimError, Simulation};
 
@@ -113,11 +113,10 @@ impl Runner {
             config.solver,
             config.sample_rate_hz,
         )?;
-        let view =
-            ViewIndex::new((initial[X], initial[Y], initial[YAW])).map_err(SimError::Settings)?;
+        let view = ViewIndex::new().map_err(SimError::Settings)?;
         let inputs = inputs.with_front_share(config.facts.front_share);
         let c = inputs.commands(0.0);
-        let last_state = view.view(0.0, sim.state(), &c, &sim.evaluate_now(&c));
+        let last_state = view.view(&sim.outputs_now(&c));
         Ok(Self {
             config,
             sim,
@@ -243,8 +242,7 @@ impl Runner {
             return Err(self.stop_with(RunStop::Diverged(e)));
         }
         let c = self.inputs.commands(t_next);
-        let e = self.sim.evaluate_now(&c);
-        self.last_state = self.view.view(self.sim.time(), self.sim.state(), &c, &e);
+        self.last_state = self.view.view(&self.sim.outputs_now(&c));
         self.tick += 1;
         phase.observe(&self.last_state);
         Ok(())

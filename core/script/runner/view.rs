@@ -1,10 +1,10 @@
-//! What a controller sees at a tick: [`TickState`], read from the recorded
-//! channels of one sample ([`crate::sim::sample`]), so that every quantity
-//! (speed, sideslip, accelerations, tyre forces) has the one definition the
-//! results file uses.
+//! What a controller sees at a tick: [`TickState`], read through the one
+//! channel table ([`crate::sim::ChannelTable`]) from the [`Outputs`] of the
+//! tick, so that every quantity (speed, sideslip, accelerations, tyre forces)
+//! has the one definition the results file uses.
 
-use crate::model::{Commands, Evaluation, State, WHEEL_NAMES};
-use crate::sim::{Sample, channel_list, sample};
+use crate::model::WHEEL_NAMES;
+use crate::sim::{ChannelTable, Outputs};
 
 /// What a controller sees at a tick (read-only copy). Angles rad, speeds m/s,
 /// accelerations m/s², forces N, wheels in the order FL, FR, RL, RR. Each
@@ -92,23 +92,20 @@ const BODY: [&str; 11] = [
 /// Per-wheel quantities of the view, as channel stems (`<stem>_<wheel>`).
 const WHEEL: [&str; 6] = ["fz", "fx", "fy", "slip_ratio", "slip_angle", "wheel_speed"];
 
-/// Where each quantity of the view sits in a [`Sample`], found once by name.
+/// Where each quantity of the view sits in the channel table, found once by name.
 #[derive(Debug, Clone)]
 pub struct ViewIndex {
     body: [usize; BODY.len()],
     wheel: [[usize; 4]; WHEEL.len()],
-    /// (x0, y0, yaw0) of the run, for the samples' `lateral_offset`.
-    initial: (f64, f64, f64),
 }
 
 impl ViewIndex {
-    /// The index over the channel list; `Err` names a channel that is missing.
-    pub fn new(initial: (f64, f64, f64)) -> Result<Self, String> {
-        let names: Vec<String> = channel_list().into_iter().map(|(n, ..)| n).collect();
+    /// The index over the channel table; `Err` names a channel that is missing.
+    pub fn new() -> Result<Self, String> {
+        let table = ChannelTable::get();
         let find = |name: &str| {
-            names
-                .iter()
-                .position(|n| n == name)
+            table
+                .index(name)
                 .ok_or_else(|| format!("internal: no channel `{name}` for the controller view"))
         };
         let mut body = [0; BODY.len()];
@@ -121,26 +118,18 @@ impl ViewIndex {
                 *slot = find(&format!("{stem}_{w}"))?;
             }
         }
-        Ok(Self {
-            body,
-            wheel,
-            initial,
-        })
+        Ok(Self { body, wheel })
     }
 
-    /// The view at time `t` of state `x` under commands `c` with the model
-    /// output `e`.
-    pub fn view(&self, t: f64, x: &State, c: &Commands, e: &Evaluation) -> TickState {
-        self.read(t, &sample(x, c, e, self.initial))
-    }
-
-    /// The view of one recorded sample at time `t`.
-    pub fn read(&self, t: f64, s: &Sample) -> TickState {
-        let [x, y, yaw, vx, vy, speed, yaw_rate, ax, ay, sideslip, steer] = self.body.map(|i| s[i]);
+    /// The view of one tick's outputs.
+    pub fn view(&self, o: &Outputs) -> TickState {
+        let table = ChannelTable::get();
+        let [x, y, yaw, vx, vy, speed, yaw_rate, ax, ay, sideslip, steer] =
+            self.body.map(|i| table.read(i, o));
         let [fz, fx, fy, slip_ratio, slip_angle, wheel_speed] =
-            self.wheel.map(|idx| idx.map(|i| s[i]));
+            self.wheel.map(|idx| idx.map(|i| table.read(i, o)));
         TickState {
-            time: t,
+            time: o.time,
             x,
             y,
             yaw,
@@ -165,24 +154,26 @@ impl ViewIndex {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::model::{Commands, Pose, straight_running};
+    use crate::params::load_vehicle;
 
-    /// Every quantity of the view is a recorded channel.
+    /// Every quantity of the view is the recorded channel of the same name.
     #[test]
     fn every_view_quantity_is_a_channel() {
-        let index = ViewIndex::new((0.0, 0.0, 0.0)).unwrap();
-        let mut s: Sample = [0.0; crate::sim::N_CHANNELS];
-        for (i, v) in s.iter_mut().enumerate() {
-            *v = i as f64;
-        }
-        let names: Vec<String> = channel_list().into_iter().map(|(n, ..)| n).collect();
-        let view = index.read(1.5, &s);
+        let v = load_vehicle("scripts/vehicles/hybrid_crossover.toml".as_ref(), &[]).unwrap();
+        let mut x = straight_running(&v, 20.0);
+        x[crate::model::VY] = 0.3;
+        let mut c = Commands::neutral(&v);
+        c.steer_wheel_angle = 0.2;
+        let o = Outputs::compute(&v, 1.5, &x, &c, &Pose::of(&x));
+        let view = ViewIndex::new().unwrap().view(&o);
         assert_eq!(view.time, 1.5);
-        assert_eq!(names[view.sideslip as usize], "sideslip");
-        assert_eq!(names[view.steer as usize], "steer_wheel_angle");
-        assert_eq!(names[view.fz[2] as usize], "fz_rear_left");
+        assert_eq!(Some(view.sideslip), o.channel("sideslip"));
+        assert_eq!(Some(view.steer), o.channel("steer_wheel_angle"));
+        assert_eq!(Some(view.fz[2]), o.channel("fz_rear_left"));
         assert_eq!(
-            names[view.wheel_speed[1] as usize],
-            "wheel_speed_front_right"
+            Some(view.wheel_speed[1]),
+            o.channel("wheel_speed_front_right")
         );
         assert_eq!(view.quantity("lat_accel"), Some(view.ay));
         assert_eq!(view.quantity("roll"), None);

@@ -1,0 +1,277 @@
+//! Dopri5 across controller ticks: one integration that carries its step
+//! size and its first-same-as-last derivative from one `advance` call to the
+//! next, takes steps past a tick while the inputs stay the same, and samples
+//! from the dense output (see the pseudocode in the [module docs](super)).
+
+use nalgebra::Const;
+use ode_solvers::Dopri5Stepper;
+use ode_solvers::controller::Controller;
+use ode_solvers::dop_shared::IntegrationError;
+
+use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
+use super::plant::{Captured, Plant};
+use super::recorder::{CHECK_POINT, N_NODES, NODES, interpolation_holds};
+use super::{InputSource, MAX_STEPS_PER_SEGMENT, SimError, Simulation, same_time};
+use crate::model::{N_STATES, STATE_NAMES, State};
+
+/// Largest step, s. Dopri5's stages sample the inputs at fractions 0, 0.2,
+/// 0.3, 0.8, 0.89 and 1 of a step, so an input feature shorter than about
+/// half a step could pass unseen; 50 ms keeps that below the 25 ms of any
+/// steering or pedal action a script describes (common practice: a step cap
+/// tied to the shortest input feature).
+pub const MAX_STEP: f64 = 0.05;
+
+/// Tolerance of the check that allows interpolated samples in a step
+/// ([`interpolation_holds`]), relative to each channel's largest magnitude in
+/// the step. Smooth stretches interpolate to about 1e-6 of a channel's
+/// magnitude and pass; a corner inside the step (the power limit, brakes
+/// fading near standstill) fails, and its samples are evaluated one by one
+/// (`sim::test::interpolated_samples_*`).
+pub const INTERPOLATION_CHECK: f64 = 1e-4;
+
+/// Step-size controller of Dopri5 (Hairer, Nørsett & Wanner, *Solving
+/// Ordinary Differential Equations I*, 2nd ed., §II.4, eq. (4.13), with the
+/// PI stabilisation of their DOPRI5 code, from memory): h_new = h·fac with
+/// fac = err^(−α)·err_old^β / SAFETY, bounded to [1/FAC_MAX, 1/FAC_MIN]
+/// (ode_solvers' parameter names; its defaults).
+mod control {
+    /// Safety factor.
+    pub const SAFETY: f64 = 0.9;
+    /// β of the PI controller.
+    pub const BETA: f64 = 0.04;
+    /// α = 0.2 − 0.75·β (Hairer et al.'s choice for order 5).
+    pub const ALPHA: f64 = 0.2 - 0.75 * BETA;
+    /// Smallest step ratio.
+    pub const FAC_MIN: f64 = 0.2;
+    /// Largest step ratio.
+    pub const FAC_MAX: f64 = 10.0;
+}
+
+/// How the samples of the current step are made.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum StepOutput {
+    /// Not decided yet (no sample of this step recorded).
+    Undecided,
+    /// Each sample: the model at the dense-output state.
+    Direct,
+    /// Each sample interpolated from the channel values at the nodes.
+    Interpolated,
+}
+
+/// Integration state carried between `advance` calls.
+pub(super) struct Continuous {
+    stepper: Dopri5Stepper<f64, Const<N_STATES>>,
+    /// Revision of the inputs of the last call (`None` = unknown).
+    revision: Option<u64>,
+    /// Exact evaluations at the start and the end of the last accepted step
+    /// (the end one is also the derivative the next step starts from).
+    at_start: Option<Captured>,
+    at_end: Option<Captured>,
+    output: StepOutput,
+    /// Channel values at the interpolation nodes of the last step.
+    nodes: Box<[Row; N_NODES]>,
+}
+
+impl Continuous {
+    pub fn new(time: f64, state: State, rtol: f64, atol: f64) -> Self {
+        use control::*;
+        let controller = Controller::new(ALPHA, BETA, FAC_MAX, FAC_MIN, MAX_STEP, SAFETY, 1.0);
+        Self {
+            stepper: Dopri5Stepper::new(time, state, rtol, atol, controller),
+            revision: None,
+            at_start: None,
+            at_end: None,
+            output: StepOutput::Undecided,
+            nodes: Box::new([[0.0; N_CHANNELS]; N_NODES]),
+        }
+    }
+
+    /// Drops whatever was integrated beyond (`time`, `state`) and the stored
+    /// derivative; keeps the step size.
+    pub fn restart(&mut self, time: f64, state: State) {
+        self.stepper.restart(time, state);
+        self.at_start = None;
+        self.at_end = None;
+        self.output = StepOutput::Undecided;
+    }
+
+    /// Derivative evaluations so far.
+    pub fn evaluations(&self) -> u64 {
+        u64::from(self.stepper.stats().num_eval)
+    }
+}
+
+impl Simulation {
+    /// Dopri5 from the current time to `t_end` (see the module docs).
+    pub(super) fn advance_continuous(
+        &mut self,
+        t_end: f64,
+        inputs: &dyn InputSource,
+    ) -> Result<(), SimError> {
+        let revision = inputs.revision();
+        let Some(mut run) = self.continuous.take() else {
+            return Err(SimError::Settings("no Dopri5 integrator".into()));
+        };
+        // Hold: unchanged inputs keep the step in flight and its derivative;
+        // changed or unknown ones restart from the tick.
+        let unchanged = revision.is_some() && revision == run.revision;
+        if !unchanged {
+            run.restart(self.time, self.state);
+        }
+        run.revision = revision;
+        // A step may pass the tick only while the inputs stay the same: the
+        // next tick will then most likely not need a restart either.
+        let stop = if unchanged { None } else { Some(t_end) };
+        self.recorder.reserve_until(t_end);
+        let result = self.integrate_continuous(&mut run, t_end, stop, inputs);
+        self.continuous = Some(run);
+        result
+    }
+
+    fn integrate_continuous(
+        &mut self,
+        run: &mut Continuous,
+        t_end: f64,
+        stop: Option<f64>,
+        inputs: &dyn InputSource,
+    ) -> Result<(), SimError> {
+        let vehicle = std::sync::Arc::clone(&self.vehicle);
+        let plant = Plant::new(&vehicle, inputs);
+        let mut steps = 0_u32;
+        loop {
+            // Derivative at the current point after a restart (captured for samples).
+            if !run.stepper.has_derivative() {
+                run.stepper.derivative(&plant);
+                let (x, y) = (run.stepper.x(), *run.stepper.y());
+                run.at_end = plant.last_at(x, &y);
+            }
+            // Samples of the current step up to the tick.
+            self.sample_step(run, t_end, inputs);
+            if run.stepper.x() >= t_end || same_time(run.stepper.x(), t_end) {
+                break;
+            }
+            // Integrate: one accepted step.
+            if steps >= MAX_STEPS_PER_SEGMENT {
+                let message = format!("more than {MAX_STEPS_PER_SEGMENT} steps in one tick");
+                return Err(self.solver_error(message, run.stepper.x(), inputs));
+            }
+            steps += 1;
+            let outcome = run.stepper.step(&plant, stop);
+            if let Some((time, i)) = plant.bad() {
+                self.evaluations = run.evaluations();
+                return Err(SimError::NonFinite {
+                    time,
+                    state: STATE_NAMES[i].0,
+                });
+            }
+            if let Err(e) = outcome {
+                self.evaluations = run.evaluations();
+                let time = match e {
+                    IntegrationError::StepSizeUnderflow { x }
+                    | IntegrationError::NonFinite { x }
+                    | IntegrationError::MaxNumStepReached { x, .. }
+                    | IntegrationError::StiffnessDetected { x } => x,
+                };
+                return Err(self.solver_error(e.to_string(), time, inputs));
+            }
+            let (x, y) = (run.stepper.x(), *run.stepper.y());
+            run.at_start = run.at_end.take();
+            run.at_end = plant.last_at(x, &y);
+            run.output = StepOutput::Undecided;
+        }
+        self.evaluations = run.evaluations();
+        // The state at the tick: the step's end, or its dense output.
+        let at_end = same_time(run.stepper.x(), t_end);
+        let x = if at_end {
+            *run.stepper.y()
+        } else {
+            run.stepper.dense(t_end)
+        };
+        self.check_finite(t_end, &x)?;
+        self.state = x;
+        self.time = t_end;
+        self.exact = if at_end { run.at_end } else { None };
+        Ok(())
+    }
+
+    /// Records the samples of the last accepted step that are due by `until`.
+    fn sample_step(&mut self, run: &mut Continuous, until: f64, inputs: &dyn InputSource) {
+        let t1 = run.stepper.x();
+        let limit = until.min(t1);
+        if !self.recorder.due(limit) {
+            return;
+        }
+        if run.output == StepOutput::Undecided {
+            run.output = self.choose_output(run, inputs);
+        }
+        if run.output == StepOutput::Interpolated {
+            let t0 = run.stepper.x_old();
+            self.recorder.push_interpolated(t0, t1, limit, &run.nodes);
+            return;
+        }
+        while self.recorder.due(limit) {
+            let ts = self.recorder.next_time();
+            // At the step's end (within rounding): the solver's own evaluation.
+            let at_end = run
+                .at_end
+                .filter(|_| (ts - t1).abs() <= 1e-9 / self.sample_rate);
+            let captured = at_end.unwrap_or_else(|| {
+                self.output_evaluations += 1;
+                Captured::evaluate(&self.vehicle, inputs, ts, &run.stepper.dense(ts))
+            });
+            let outputs = self.outputs_of(ts, &captured);
+            self.recorder.push(&outputs);
+        }
+    }
+
+    /// Direct or interpolated samples for the last step; fills the nodes for
+    /// interpolation. Interpolation needs more samples in the step than the 4
+    /// evaluations it costs, the same commands at every node (a command that
+    /// changes inside the step may have a corner no polynomial follows), both
+    /// end evaluations, and the interpolant must match an exact evaluation at
+    /// the check point.
+    fn choose_output(&mut self, run: &mut Continuous, inputs: &dyn InputSource) -> StepOutput {
+        let (t0, t1) = (run.stepper.x_old(), run.stepper.x());
+        let samples = self.recorder.count_due(t1);
+        let (Some(start), Some(end)) = (run.at_start, run.at_end) else {
+            return StepOutput::Direct;
+        };
+        // Interpolation costs the 3 interior nodes and the check point.
+        if !self.interpolate_output
+            || samples <= (N_NODES - 1) as u64
+            || start.t != t0
+            || end.t != t1
+        {
+            return StepOutput::Direct;
+        }
+        let h = t1 - t0;
+        let times: [f64; N_NODES] = std::array::from_fn(|j| t0 + NODES[j] * h);
+        let same = times[1..N_NODES - 1]
+            .iter()
+            .all(|&t| inputs.commands(t) == start.commands)
+            && end.commands == start.commands;
+        if !same {
+            return StepOutput::Direct;
+        }
+        let table = ChannelTable::get();
+        run.nodes[0] = table.row(&self.outputs_of(t0, &start));
+        run.nodes[N_NODES - 1] = table.row(&self.outputs_of(t1, &end));
+        for (node, &t) in run.nodes[1..N_NODES - 1].iter_mut().zip(&times[1..]) {
+            let c = Captured::evaluate(&self.vehicle, inputs, t, &run.stepper.dense(t));
+            *node = table.row(&self.outputs_of(t, &c));
+        }
+        let t = t0 + CHECK_POINT * h;
+        let c = Captured::evaluate(&self.vehicle, inputs, t, &run.stepper.dense(t));
+        let check = table.row(&self.outputs_of(t, &c));
+        self.output_evaluations += (N_NODES - 1) as u64;
+        if !interpolation_holds(&run.nodes, &check, INTERPOLATION_CHECK) {
+            return StepOutput::Direct;
+        }
+        StepOutput::Interpolated
+    }
+
+    /// The outputs of an evaluation, sampled at time `t`.
+    pub(super) fn outputs_of(&self, t: f64, c: &Captured) -> Outputs {
+        Outputs::from_evaluation(t, &c.state, &c.commands, c.evaluation, &self.reference)
+    }
+}

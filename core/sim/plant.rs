@@ -1,0 +1,103 @@
+//! The right-hand side handed to `ode_solvers`: model, vehicle and inputs, and
+//! the last evaluation it made (so that an output sample at a step's end
+//! reuses the evaluation the solver made there).
+
+use std::cell::{Cell, RefCell};
+
+use ode_solvers::dop_shared::System;
+
+use super::InputSource;
+use crate::model::{Commands, Evaluation, N_STATES, State, evaluate};
+use crate::params::Vehicle;
+
+/// One evaluation of the model with what it was evaluated at.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Captured {
+    /// Time, s.
+    pub t: f64,
+    /// State.
+    pub state: State,
+    /// Commands at `t`.
+    pub commands: Commands,
+    /// The model's evaluation.
+    pub evaluation: Evaluation,
+}
+
+impl Captured {
+    /// Evaluates the model at (`t`, `state`) with the inputs' commands.
+    pub fn evaluate(vehicle: &Vehicle, inputs: &dyn InputSource, t: f64, state: &State) -> Self {
+        let commands = inputs.commands(t);
+        Self {
+            t,
+            state: *state,
+            commands,
+            evaluation: evaluate(vehicle, state, &commands),
+        }
+    }
+
+    /// Whether this evaluation was made at exactly (`t`, `state`).
+    pub fn is_at(&self, t: f64, state: &State) -> bool {
+        self.t == t && self.state == *state
+    }
+}
+
+/// The ODE right-hand side: derivative of the state under the inputs.
+pub(super) struct Plant<'a> {
+    vehicle: &'a Vehicle,
+    inputs: &'a dyn InputSource,
+    /// First non-finite value seen: (time, state index).
+    bad: Cell<Option<(f64, usize)>>,
+    /// The last evaluation made.
+    last: RefCell<Option<Captured>>,
+}
+
+impl<'a> Plant<'a> {
+    pub fn new(vehicle: &'a Vehicle, inputs: &'a dyn InputSource) -> Self {
+        Self {
+            vehicle,
+            inputs,
+            bad: Cell::new(None),
+            last: RefCell::new(None),
+        }
+    }
+
+    /// First non-finite derivative or state seen: (time, state index).
+    pub fn bad(&self) -> Option<(f64, usize)> {
+        self.bad.get()
+    }
+
+    /// The last evaluation made, if it was at exactly (`t`, `state`).
+    pub fn last_at(&self, t: f64, state: &State) -> Option<Captured> {
+        (*self.last.borrow()).filter(|c| c.is_at(t, state))
+    }
+}
+
+impl System<f64, State> for Plant<'_> {
+    fn system(&self, t: f64, x: &State, dx: &mut State) {
+        let captured = Captured::evaluate(self.vehicle, self.inputs, t, x);
+        *dx = captured.evaluation.derivative;
+        // A NaN or infinity anywhere makes the sum non-finite (one pass, no
+        // branch per element); only then is the offending state looked for.
+        if !(dx.sum() + x.sum()).is_finite() && self.bad.get().is_none() {
+            if let Some(i) = dx.iter().chain(x.iter()).position(|v| !v.is_finite()) {
+                self.bad.set(Some((t, i % N_STATES)));
+            }
+        }
+        *self.last.borrow_mut() = Some(captured);
+    }
+
+    fn solout(&mut self, _t: f64, _x: &State, _dx: &State) -> bool {
+        self.bad.get().is_some()
+    }
+}
+
+/// The solvers that take their system by value get a reference.
+impl System<f64, State> for &Plant<'_> {
+    fn system(&self, t: f64, x: &State, dx: &mut State) {
+        (**self).system(t, x, dx);
+    }
+
+    fn solout(&mut self, _t: f64, _x: &State, _dx: &State) -> bool {
+        self.bad.get().is_some()
+    }
+}

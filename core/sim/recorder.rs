@@ -1,0 +1,270 @@
+//! Output samples: times at exact multiples of the sample period, every
+//! channel stored channel-major (one growing vector per channel, handed to the
+//! results record without copying), and the interpolation of a step's samples
+//! from a few exact evaluations.
+
+use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
+
+/// Interpolation nodes within a step, as fractions θ of the step: the
+/// Chebyshev–Lobatto points (1 − cos(kπ/4))/2, k = 0..4 (ends included).
+/// Polynomial interpolation through them is close to the best of its degree
+/// (Trefethen, *Approximation Theory and Approximation Practice*, ch. 5 and
+/// 15, from memory). The degree, 4, is that of Dopri5's dense output, so the
+/// raw states are reproduced exactly and any other channel to the order of
+/// the dense output itself.
+pub const NODES: [f64; 5] = [
+    0.0,
+    0.146_446_609_406_726_24,
+    0.5,
+    0.853_553_390_593_273_8,
+    1.0,
+];
+
+/// Number of interpolation nodes.
+pub const N_NODES: usize = NODES.len();
+
+/// 1 / Π_{m≠j} (θ_j − θ_m) for each node j: the Lagrange denominators.
+const DENOMINATORS: [f64; N_NODES] = {
+    let mut d = [1.0; N_NODES];
+    let mut j = 0;
+    while j < N_NODES {
+        let mut m = 0;
+        while m < N_NODES {
+            if m != j {
+                d[j] *= NODES[j] - NODES[m];
+            }
+            m += 1;
+        }
+        d[j] = 1.0 / d[j];
+        j += 1;
+    }
+    d
+};
+
+/// Lagrange weights of the nodes at θ: value(θ) = Σ w_j·value(θ_j).
+#[inline]
+pub fn lagrange_weights(theta: f64) -> [f64; N_NODES] {
+    // At a node exactly that node's value (a sample at a step's end is the
+    // evaluation there, bit for bit).
+    if let Some(j) = NODES.iter().position(|&t| t == theta) {
+        return std::array::from_fn(|m| if m == j { 1.0 } else { 0.0 });
+    }
+    let x: [f64; N_NODES] = std::array::from_fn(|m| theta - NODES[m]);
+    std::array::from_fn(|j| {
+        let mut w = DENOMINATORS[j];
+        for (m, xm) in x.iter().enumerate() {
+            if m != j {
+                w *= xm;
+            }
+        }
+        w
+    })
+}
+
+/// Where a step's interpolation is checked against an exact evaluation, as a
+/// fraction of the step: midway between the nodes θ₁ and θ₂, in one of the two
+/// widest gaps between nodes, where the interpolation error is largest.
+pub const CHECK_POINT: f64 = 0.5 * (NODES[1] + NODES[2]);
+
+/// Whether the degree-4 interpolant of every channel through `nodes` agrees
+/// with `exact`, the channel values at [`CHECK_POINT`], to `tolerance` × the
+/// channel's largest magnitude at the nodes and the check point. A corner
+/// inside the step (a power limit reached, a brake fading out) bends the
+/// interpolant away from the exact values; then the samples are evaluated one
+/// by one.
+pub fn interpolation_holds(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {
+    let w = lagrange_weights(CHECK_POINT);
+    (0..N_CHANNELS).all(|c| {
+        let v = [
+            nodes[0][c],
+            nodes[1][c],
+            nodes[2][c],
+            nodes[3][c],
+            nodes[4][c],
+        ];
+        let interpolated: f64 = w.iter().zip(v).map(|(w, v)| w * v).sum();
+        let scale = v.iter().fold(exact[c].abs(), |m, x| m.max(x.abs()));
+        (interpolated - exact[c]).abs() <= tolerance * scale
+    })
+}
+
+/// The recorded samples.
+pub(super) struct Recorder {
+    rate: f64,
+    /// Index of the next sample to record (its time is index / rate).
+    next: u64,
+    times: Vec<f64>,
+    /// One vector per channel, in table order.
+    data: Vec<Vec<f64>>,
+    /// Lagrange weights of the samples of one step, node-major (scratch).
+    weights: [Vec<f64>; N_NODES],
+}
+
+impl Recorder {
+    pub fn new(rate: f64) -> Self {
+        Self {
+            rate,
+            next: 0,
+            times: Vec::new(),
+            data: (0..N_CHANNELS).map(|_| Vec::new()).collect(),
+            weights: Default::default(),
+        }
+    }
+
+    /// Time of sample `k`, s: k / rate (divided, not multiplied by the period,
+    /// so that e.g. sample 35 at 200 Hz is exactly 0.175).
+    pub fn time_of(&self, k: u64) -> f64 {
+        k as f64 / self.rate
+    }
+
+    /// Time of the next sample to record, s.
+    pub fn next_time(&self) -> f64 {
+        self.time_of(self.next)
+    }
+
+    /// Whether sample time `ts` counts as reached at `t` (a billionth of a
+    /// period of slack for rounding).
+    pub fn reached(&self, ts: f64, t: f64) -> bool {
+        ts <= t + 1e-9 / self.rate
+    }
+
+    /// Whether the next sample is due at or before `t`.
+    pub fn due(&self, t: f64) -> bool {
+        self.reached(self.next_time(), t)
+    }
+
+    /// Number of samples due at or before `t` not yet recorded.
+    pub fn count_due(&self, t: f64) -> u64 {
+        let last = (t * self.rate + 1e-9).floor();
+        if last < 0.0 || !last.is_finite() {
+            return 0;
+        }
+        (last as u64 + 1).saturating_sub(self.next)
+    }
+
+    /// Makes room for every sample up to `t`.
+    pub fn reserve_until(&mut self, t: f64) {
+        let more = self.count_due(t) as usize;
+        if self.times.capacity() - self.times.len() >= more {
+            return;
+        }
+        self.times.reserve(more);
+        for d in &mut self.data {
+            d.reserve(more);
+        }
+    }
+
+    /// Records the next sample from `outputs`.
+    pub fn push(&mut self, outputs: &Outputs) {
+        self.push_row(&ChannelTable::get().row(outputs));
+    }
+
+    /// Records the next sample from its channel values.
+    pub fn push_row(&mut self, row: &Row) {
+        self.times.push(self.next_time());
+        for (d, v) in self.data.iter_mut().zip(row) {
+            d.push(*v);
+        }
+        self.next += 1;
+    }
+
+    /// Records every sample due in (t0, `until`] by interpolating `nodes`,
+    /// the channel values at the [`NODES`] of the step [t0, t1].
+    pub fn push_interpolated(&mut self, t0: f64, t1: f64, until: f64, nodes: &[Row; N_NODES]) {
+        self.weights.iter_mut().for_each(Vec::clear);
+        while self.due(until) {
+            let ts = self.next_time();
+            let w = lagrange_weights((ts - t0) / (t1 - t0));
+            for (column, wj) in self.weights.iter_mut().zip(w) {
+                column.push(wj);
+            }
+            self.times.push(ts);
+            self.next += 1;
+        }
+        let n = self.weights[0].len();
+        if n == 0 {
+            return;
+        }
+        // Channel-major: each channel's samples of the step in one pass; a
+        // channel constant over the step (a held command) is copied.
+        let [w0, w1, w2, w3, w4] = &self.weights;
+        for (c, d) in self.data.iter_mut().enumerate() {
+            let v: [f64; N_NODES] = std::array::from_fn(|j| nodes[j][c]);
+            if v.iter().all(|x| x.to_bits() == v[0].to_bits()) {
+                d.extend(std::iter::repeat_n(v[0], n));
+                continue;
+            }
+            let weights = w0.iter().zip(w1).zip(w2).zip(w3).zip(w4);
+            d.extend(
+                weights.map(|((((a, b), c), e), f)| {
+                    a * v[0] + b * v[1] + c * v[2] + e * v[3] + f * v[4]
+                }),
+            );
+        }
+    }
+
+    /// Sample times recorded so far, s.
+    pub fn times(&self) -> &[f64] {
+        &self.times
+    }
+
+    /// The samples of channel `index` recorded so far.
+    pub fn channel(&self, index: usize) -> &[f64] {
+        &self.data[index]
+    }
+
+    /// Times and channel vectors, for the results record.
+    pub fn into_parts(self) -> (Vec<f64>, Vec<Vec<f64>>) {
+        (self.times, self.data)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Lagrange weights sum to 1, pick the node at a node, and reproduce a
+    /// polynomial of degree 4 exactly (interpolation through 5 points).
+    #[test]
+    fn weights_reproduce_quartics() {
+        let p = |t: f64| 1.0 - 2.0 * t + 3.0 * t * t - 0.5 * t.powi(3) + 4.0 * t.powi(4);
+        for k in 0..=20 {
+            let theta = k as f64 / 20.0;
+            let w = lagrange_weights(theta);
+            assert!((w.iter().sum::<f64>() - 1.0).abs() < 1e-14);
+            let value: f64 = w.iter().zip(NODES).map(|(w, t)| w * p(t)).sum();
+            assert!((value - p(theta)).abs() < 1e-13, "θ = {theta}");
+        }
+        for (j, &tj) in NODES.iter().enumerate() {
+            let w = lagrange_weights(tj);
+            for (m, wm) in w.iter().enumerate() {
+                assert_eq!(*wm, if m == j { 1.0 } else { 0.0 });
+            }
+        }
+    }
+
+    /// The check passes a smooth curve and fails a corner |θ − 0.6| inside
+    /// the step.
+    #[test]
+    fn interpolation_check_finds_corners() {
+        let check = |f: &dyn Fn(f64) -> f64| {
+            let nodes: [Row; N_NODES] = std::array::from_fn(|j| [f(NODES[j]); N_CHANNELS]);
+            interpolation_holds(&nodes, &[f(CHECK_POINT); N_CHANNELS], 1e-4)
+        };
+        assert!(check(&|t| 100.0 + (3.0 * t).sin()));
+        assert!(!check(&|t| 100.0 + 10.0 * (t - 0.6).abs()));
+        assert!(check(&|_| 0.0), "all zero");
+    }
+
+    #[test]
+    fn counts_and_times() {
+        let mut r = Recorder::new(200.0);
+        assert_eq!(r.count_due(0.0), 1);
+        assert_eq!(r.count_due(0.175), 36);
+        r.push_row(&[0.0; N_CHANNELS]);
+        assert_eq!(r.count_due(0.175), 35);
+        assert_eq!(r.time_of(35), 0.175);
+        assert!(r.due(0.005));
+        assert!(!r.due(0.0049));
+    }
+}
