@@ -502,9 +502,10 @@ fn roll_is_positive_right_side_down_in_left_turn() {
     let e = evaluate(&v, &r.trim.state, &r.trim.commands);
     assert!(e.wheels[1].fz > e.wheels[0].fz && e.wheels[3].fz > e.wheels[2].fz);
     // Steady roll angle φ = m·ay·H/(KΦf + KΦr) (Milliken & Milliken ch. 18).
-    let l = v.wheelbase;
-    let h_axis =
-        v.roll_centre_height[0] + (v.roll_centre_height[1] - v.roll_centre_height[0]) * v.a / l;
-    let phi = v.mass * 4.0 * (v.cg_height - h_axis) / (v.roll_stiffness[0] + v.roll_stiffness[1]);
+    let l = v.chassis.wheelbase;
+    let h_axis = v.chassis.roll_centre_height[0]
+        + (v.chassis.roll_centre_height[1] - v.chassis.roll_centre_height[0]) * v.chassis.a / l;
+    let phi = v.chassis.mass * 4.0 * (v.chassis.cg_height - h_axis)
+        / (v.chassis.roll_stiffness[0] + v.chassis.roll_stiffness[1]);
     assert!((r.trim.state[yawdyn::model::ROLL] / phi - 1.0).abs() < 1e-6);
 }

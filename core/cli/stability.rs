@@ -168,7 +168,7 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
         speed: speed_kph / 3.6,
         lat_accel: lat_accel_g * GRAVITY,
         long_accel: point.long_accel_g * GRAVITY,
-        front_share: point.front_share.unwrap_or(vehicle.front_share),
+        front_share: point.front_share.unwrap_or(vehicle.powertrain.front_share),
     };
     target
         .validate(&vehicle)

@@ -4,6 +4,8 @@
 
 use serde::Serialize;
 
+use super::loads::static_axle_loads;
+use super::powertrain::available_wheel_torque;
 use crate::analysis::BicycleModel;
 use crate::params::{FRONT, REAR, Vehicle};
 
@@ -70,7 +72,7 @@ pub struct VehicleSummary {
 /// Axle cornering stiffnesses at static load [front, rear], N/rad (two tyres
 /// each, zero camber, from the Magic Formula Kyα at the static wheel load).
 pub fn axle_cornering_stiffness(v: &Vehicle) -> [f64; 2] {
-    let loads = v.static_axle_loads();
+    let loads = static_axle_loads(&v.chassis);
     [FRONT, REAR].map(|axle| 2.0 * v.tyres[axle].model.cornering_stiffness(0.5 * loads[axle]))
 }
 
@@ -80,10 +82,10 @@ pub fn axle_cornering_stiffness(v: &Vehicle) -> [f64; 2] {
 pub fn bicycle_model(v: &Vehicle) -> BicycleModel {
     let c = axle_cornering_stiffness(v);
     BicycleModel {
-        mass: v.mass,
-        yaw_inertia: v.yaw_inertia,
-        a: v.a,
-        b: v.b,
+        mass: v.chassis.mass,
+        yaw_inertia: v.chassis.yaw_inertia,
+        a: v.chassis.a,
+        b: v.chassis.b,
         cornering_stiffness_front: c[FRONT],
         cornering_stiffness_rear: c[REAR],
     }
@@ -91,24 +93,25 @@ pub fn bicycle_model(v: &Vehicle) -> BicycleModel {
 
 /// Derives every quantity of [`VehicleSummary`].
 pub fn summarize(v: &Vehicle) -> VehicleSummary {
-    let loads = v.static_axle_loads();
+    let ch = &v.chassis;
+    let loads = static_axle_loads(ch);
     let c = axle_cornering_stiffness(v);
     let bike = bicycle_model(v);
     let kph = |s: f64| s * 3.6;
     let drive_axles = [FRONT, REAR]
         .into_iter()
         .filter_map(|axle| {
-            let u = v.drive[axle]?;
+            let u = v.powertrain.units[axle].as_ref()?;
             let radius = v.tyres[axle].rolling_radius;
             let (mu_x, _) = v.tyres[axle]
                 .model
-                .peak_friction(0.5 * loads[axle], v.road_friction);
+                .peak_friction(0.5 * loads[axle], v.road.friction);
             let grip = mu_x * loads[axle];
-            let max_torque = u.efficiency * u.ratio * u.max_torque;
+            let max_torque = available_wheel_torque(u, 0.0);
             let wheel_power = u.efficiency * u.max_power;
             Some(DriveAxleSummary {
                 axle: if axle == FRONT { "front" } else { "rear" }.to_string(),
-                label: v.file_label(axle),
+                label: v.unit_label(axle).to_string(),
                 max_wheel_torque_nm: max_torque,
                 max_tractive_force_n: max_torque / radius,
                 grip_force_n: grip,
@@ -118,26 +121,26 @@ pub fn summarize(v: &Vehicle) -> VehicleSummary {
             })
         })
         .collect();
-    let downforce_100 = 0.5 * v.air_density * v.downforce_area * (100.0_f64 / 3.6).powi(2);
+    let downforce_100 = super::aero_forces(&v.aero, 100.0 / 3.6).downforce;
     VehicleSummary {
         name: v.name.clone(),
-        mass_kg: v.mass,
-        wheelbase_m: v.wheelbase,
-        cg_to_front_axle_m: v.a,
-        cg_height_m: v.cg_height,
-        yaw_inertia_kg_m2: v.yaw_inertia,
+        mass_kg: ch.mass,
+        wheelbase_m: ch.wheelbase,
+        cg_to_front_axle_m: ch.a,
+        cg_height_m: ch.cg_height,
+        yaw_inertia_kg_m2: ch.yaw_inertia,
         front_axle_load_n: loads[FRONT],
         rear_axle_load_n: loads[REAR],
-        front_weight_fraction: v.b / v.wheelbase,
+        front_weight_fraction: ch.b / ch.wheelbase,
         cornering_stiffness_front_n_per_rad: c[FRONT],
         cornering_stiffness_rear_n_per_rad: c[REAR],
         understeer_gradient_deg_per_g: bike.understeer_gradient_deg_per_g(),
         characteristic_speed_kph: bike.characteristic_speed().map(kph),
         critical_speed_kph: bike.critical_speed().map(kph),
-        aero_front_fraction: (v.downforce_area != 0.0)
-            .then(|| (v.wheelbase - v.pressure_centre_to_front_axle) / v.wheelbase),
+        aero_front_fraction: (v.aero.downforce_area != 0.0)
+            .then(|| (ch.wheelbase - v.aero.pressure_centre_to_front_axle) / ch.wheelbase),
         downforce_at_100_kph_n: downforce_100,
-        front_share: v.front_share,
+        front_share: v.powertrain.front_share,
         drive_axles,
     }
 }

@@ -332,7 +332,7 @@ fn understeer_gradient(vehicle: &Vehicle, trim: &Trim, settings: &TrimSettings) 
         (None, None) => return None,
     };
     let v = trim.state[VX];
-    Some(slope - vehicle.wheelbase / (v * v))
+    Some(slope - vehicle.chassis.wheelbase / (v * v))
 }
 
 /// Convenience: yaw rate and sideslip of a trim, (rad/s, rad).

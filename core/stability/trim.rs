@@ -55,7 +55,7 @@ impl TrimTarget {
             speed,
             lat_accel,
             long_accel: 0.0,
-            front_share: vehicle.front_share,
+            front_share: vehicle.powertrain.front_share,
         }
     }
 
@@ -80,8 +80,10 @@ impl TrimTarget {
         if !(0.0..=1.0).contains(&self.front_share) {
             return bad("front_share", self.front_share, "between 0 and 1");
         }
-        let reach = self.front_share * f64::from(u8::from(vehicle.drive[FRONT].is_some()))
-            + (1.0 - self.front_share) * f64::from(u8::from(vehicle.drive[REAR].is_some()));
+        let reach = self.front_share
+            * f64::from(u8::from(vehicle.powertrain.units[FRONT].is_some()))
+            + (1.0 - self.front_share)
+                * f64::from(u8::from(vehicle.powertrain.units[REAR].is_some()));
         if reach <= 0.0 {
             return Err(StabilityError::NoDrive {
                 front_share: self.front_share,
@@ -140,7 +142,7 @@ impl Trim {
     }
     /// Mean road-wheel angle δ_sw/ratio, rad.
     pub fn road_wheel_angle(&self, vehicle: &Vehicle) -> f64 {
-        self.commands.steer_wheel_angle / vehicle.steering_ratio
+        self.commands.steer_wheel_angle / vehicle.steering.ratio
     }
     /// Sideslip angle at the CG, atan(vy/vx), rad.
     pub fn sideslip(&self) -> f64 {
@@ -182,16 +184,16 @@ pub fn trim_residual(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -
     let e = evaluate(vehicle, &x, &c);
     let d = &e.derivative;
     let g = GRAVITY;
-    let mg = vehicle.mass * g;
+    let mg = vehicle.chassis.mass * g;
     let v = target.speed;
     let mut f = DVector::zeros(N);
     for (k, &i) in TRIM_STATES.iter().enumerate() {
         let scale = match i {
             VY => 1.0 / g,
-            YAW_RATE => vehicle.yaw_inertia / (mg * vehicle.wheelbase),
+            YAW_RATE => vehicle.chassis.yaw_inertia / (mg * vehicle.chassis.wheelbase),
             ROLL | PITCH => 1.0,
-            ROLL_RATE => vehicle.roll_inertia / (mg * vehicle.cg_height),
-            PITCH_RATE => vehicle.pitch_inertia / (mg * vehicle.cg_height),
+            ROLL_RATE => vehicle.chassis.roll_inertia / (mg * vehicle.chassis.cg_height),
+            PITCH_RATE => vehicle.chassis.pitch_inertia / (mg * vehicle.chassis.cg_height),
             AY_GEOMETRIC => crate::model::AY_GEOMETRIC_TIME_CONSTANT / g,
             _ if i >= SLIP_RATIO => vehicle.tyres[(i - SLIP_RATIO) / 2].relaxation_longitudinal / v,
             _ if i >= SLIP_ANGLE => vehicle.tyres[(i - SLIP_ANGLE) / 2].relaxation_lateral / v,
@@ -303,9 +305,10 @@ fn initial_guess(vehicle: &Vehicle, target: &TrimTarget) -> DVector<f64> {
     // Torque to overcome drag and rolling resistance and give the requested
     // acceleration (a first guess only).
     let radius = 0.5 * (vehicle.tyres[FRONT].rolling_radius + vehicle.tyres[REAR].rolling_radius);
-    let drag = 0.5 * vehicle.air_density * vehicle.drag_area * target.speed * target.speed;
-    let rolling = vehicle.tyres[FRONT].rolling_resistance * vehicle.mass * GRAVITY;
-    z[1] = (vehicle.mass * target.long_accel + drag + rolling) * radius;
+    let drag =
+        0.5 * vehicle.aero.air_density * vehicle.aero.drag_area * target.speed * target.speed;
+    let rolling = vehicle.tyres[FRONT].rolling_resistance * vehicle.chassis.mass * GRAVITY;
+    z[1] = (vehicle.chassis.mass * target.long_accel + drag + rolling) * radius;
     z
 }
 

@@ -435,24 +435,24 @@ fn register_setup(engine: &mut Engine, session: &Shared) {
     engine.register_fn("vehicle_info", move || -> Res<Map> {
         let v = lock(&s).vehicle()?;
         let bike = model::linear::bicycle_model(&v);
-        let loads = v.static_axle_loads();
+        let loads = crate::model::static_axle_loads(&v.chassis);
         let mut m = Map::new();
         let mut put = |k: &str, x: f64| {
             m.insert(k.into(), Dynamic::from_float(x));
         };
-        put("mass", v.mass);
-        put("yaw_inertia", v.yaw_inertia);
-        put("wheelbase", v.wheelbase);
-        put("cg_to_front_axle", v.a);
-        put("cg_to_rear_axle", v.b);
-        put("cg_height", v.cg_height);
-        put("track_front", v.track[0]);
-        put("track_rear", v.track[1]);
-        put("steering_ratio", v.steering_ratio);
-        put("front_share", v.front_share);
+        put("mass", v.chassis.mass);
+        put("yaw_inertia", v.chassis.yaw_inertia);
+        put("wheelbase", v.chassis.wheelbase);
+        put("cg_to_front_axle", v.chassis.a);
+        put("cg_to_rear_axle", v.chassis.b);
+        put("cg_height", v.chassis.cg_height);
+        put("track_front", v.chassis.track[0]);
+        put("track_rear", v.chassis.track[1]);
+        put("steering_ratio", v.steering.ratio);
+        put("front_share", v.powertrain.front_share);
         put("rolling_radius_front", v.tyres[0].rolling_radius);
         put("rolling_radius_rear", v.tyres[1].rolling_radius);
-        put("brake_max_torque", v.brake_max_torque);
+        put("brake_max_torque", v.brakes.max_torque);
         put("static_load_front", loads[0]);
         put("static_load_rear", loads[1]);
         put("understeer_gradient", bike.understeer_gradient());

@@ -587,7 +587,9 @@ impl Session {
     }
 
     fn default_front_share(&self) -> f64 {
-        self.plant.as_ref().map_or(0.0, |p| p.vehicle.front_share)
+        self.plant
+            .as_ref()
+            .map_or(0.0, |p| p.vehicle.powertrain.front_share)
     }
 
     fn inputs(&self) -> Inputs<'_> {
@@ -635,8 +637,8 @@ impl Session {
                 y: s.y,
                 yaw: s.yaw,
                 speed: s.speed,
-                wheelbase: p.vehicle.wheelbase,
-                steering_ratio: p.vehicle.steering_ratio,
+                wheelbase: p.vehicle.chassis.wheelbase,
+                steering_ratio: p.vehicle.steering.ratio,
             };
             out.steer = Some(f.update(&view, dt));
             self.max_cross_track_error =
