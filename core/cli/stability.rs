@@ -300,6 +300,7 @@ fn report_json(v: &Vehicle, r: &StabilityReport) -> Value {
             "pitch_deg": t.state[yawdyn::model::PITCH].to_degrees(),
             "total_drive_torque_nm": t.total_torque,
             "axle_drive_torque_nm": e.axle_drive_torque,
+            "axle_brake_torque_nm": axle_brake_torque(&e),
             "understeer_gradient_deg_per_g": r.understeer_gradient_deg_per_g(),
             "residual": t.residual,
             "wheels": wheels,
@@ -308,6 +309,11 @@ fn report_json(v: &Vehicle, r: &StabilityReport) -> Value {
         "modes": r.modes,
         "yaw_mode": r.yaw_mode,
     })
+}
+
+/// Friction brake torque per axle [front, rear], N·m (both wheels).
+fn axle_brake_torque(e: &yawdyn::model::Evaluation) -> [f64; 2] {
+    [0, 1].map(|axle| e.wheels[2 * axle].brake_torque + e.wheels[2 * axle + 1].brake_torque)
 }
 
 fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
@@ -349,13 +355,22 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
     tab.row(["yaw rate", &deg(yaw_rate), "deg/s"]);
     tab.row(["roll", &deg(t.state[yawdyn::model::ROLL]), "deg"]);
     tab.row(["pitch", &deg(t.state[yawdyn::model::PITCH]), "deg"]);
-    tab.row(["drive torque, total", &n(t.total_torque), "N*m"]);
+    tab.row([
+        "wheel torque, total (negative = brakes)",
+        &n(t.total_torque),
+        "N*m",
+    ]);
     tab.row([
         "drive torque, front axle",
         &n(e.axle_drive_torque[0]),
         "N*m",
     ]);
     tab.row(["drive torque, rear axle", &n(e.axle_drive_torque[1]), "N*m"]);
+    let brake = axle_brake_torque(&e);
+    if brake.iter().any(|b| *b != 0.0) {
+        tab.row(["brake torque, front axle", &n(brake[0]), "N*m"]);
+        tab.row(["brake torque, rear axle", &n(brake[1]), "N*m"]);
+    }
     tab.row([
         "understeer gradient (local)",
         &r.understeer_gradient_deg_per_g()

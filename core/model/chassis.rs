@@ -5,7 +5,7 @@ use super::state::{
     AY_GEOMETRIC, PITCH, PITCH_RATE, ROLL, ROLL_RATE, State, VX, VY, X, Y, YAW, YAW_RATE,
 };
 use super::tyres::ContactPatches;
-use crate::params::Chassis;
+use crate::params::{Chassis, GRAVITY};
 
 /// Time constant of the lateral acceleration used for roll-centre load transfer, s.
 pub const AY_GEOMETRIC_TIME_CONSTANT: f64 = 0.02;
@@ -26,9 +26,14 @@ pub struct BodyAcceleration {
 ///   with the tyre forces rotated from wheel to body axes (Newton–Euler in a
 ///   rotating frame; Milliken & Milliken, *Race Car Vehicle Dynamics*, ch. 5;
 ///   Gillespie, *Fundamentals of Vehicle Dynamics*, ch. 6);
-/// - Ixx·φ̈ = m·ay·H − KΦ·φ − CΦ·φ̇ with H the CG height above the roll axis
-///   (the inertial force −m·ay at height H rolls the body towards the outside
-///   of the turn: right side down, φ > 0, in a left turn);
+/// - Ixx·φ̈ = m·ay·H + m·g·H·sin φ − KΦ·φ − CΦ·φ̇ with H the CG height above
+///   the roll axis (the inertial force −m·ay at height H rolls the body
+///   towards the outside of the turn: right side down, φ > 0, in a left
+///   turn; the weight of the body displaced sideways by H·sin φ adds the
+///   overturning moment m·g·H·sin φ), so that in steady state the roll
+///   gradient is dφ/day = m·H/(KΦ − m·g·H) (Gillespie, *Fundamentals of
+///   Vehicle Dynamics*, ch. 8, roll gradient; the whole mass is taken as
+///   sprung);
 /// - Iyy·θ̈ = −m·ax·h − Kθ·θ − Cθ·θ̇ (pitch centre at the ground), so that in
 ///   steady state the elastic transfer is m·ax·h/L (Milliken & Milliken,
 ///   ch. 18); the CG shift due to pitch (m·g·h·θ) is neglected, as in that formula;
@@ -70,8 +75,10 @@ pub fn chassis_equations(
     let roll_stiffness = c.roll_stiffness[0] + c.roll_stiffness[1];
     let roll_damping = c.roll_damping[0] + c.roll_damping[1];
     d[ROLL] = roll_rate;
-    d[ROLL_RATE] =
-        (m * ay * arm - roll_stiffness * roll - roll_damping * roll_rate) / c.roll_inertia;
+    d[ROLL_RATE] = (m * ay * arm + m * GRAVITY * arm * roll.sin()
+        - roll_stiffness * roll
+        - roll_damping * roll_rate)
+        / c.roll_inertia;
     d[PITCH] = pitch_rate;
     d[PITCH_RATE] =
         (-m * ax * c.cg_height - c.pitch_stiffness * pitch - c.pitch_damping * pitch_rate)

@@ -21,6 +21,9 @@ pub fn static_axle_loads(c: &Chassis) -> [f64; 2] {
 /// m·ayg·(a/L)·z_rr (rear), over the track (Milliken & Milliken, *Race Car
 /// Vehicle Dynamics*, ch. 18), with ayg the filtered acceleration state so
 /// that loads never depend algebraically on the accelerations they produce.
+/// In steady cornering φ = m·ay·H/(KΦ − m·g·H) (small angles; see
+/// [`chassis_equations`](super::chassis_equations)), so the elastic transfer
+/// is larger than Milliken & Milliken's m·ay·H·KΦᵢ/KΦ by KΦ/(KΦ − m·g·H).
 #[inline]
 pub fn wheel_loads(c: &Chassis, aero: &Aero, forces: &AeroForces, x: &State) -> [f64; 4] {
     let l = c.wheelbase;

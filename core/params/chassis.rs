@@ -131,7 +131,7 @@ impl Chassis {
                 );
             }
         }
-        Self {
+        let built = Self {
             mass: c.mass,
             yaw_inertia: c.yaw_inertia,
             roll_inertia: c.roll_inertia,
@@ -146,7 +146,21 @@ impl Chassis {
             roll_damping: [c.roll_damping_front, c.roll_damping_rear],
             pitch_stiffness: c.pitch_stiffness,
             pitch_damping: c.pitch_damping,
+        };
+        // The roll spring must hold the body up against its own overturning
+        // moment m·g·H·φ (Gillespie, Fundamentals of Vehicle Dynamics, ch. 8).
+        let overturning = built.mass * super::GRAVITY * built.roll_arm();
+        if built.total_roll_stiffness() <= overturning && built.total_roll_stiffness() > 0.0 {
+            checks.push(
+                "chassis.roll_stiffness_front",
+                format!(
+                    "total roll stiffness {} N*m/rad (front + rear) must exceed m*g*H = {overturning:.0} N*m/rad, \
+                     the overturning moment of the body per radian of roll",
+                    built.total_roll_stiffness()
+                ),
+            );
         }
+        built
     }
 
     /// Height of the roll axis under the CG, m: the line through the two roll

@@ -54,9 +54,4 @@ impl<'a> Checks<'a> {
             self.push(path, "must be finite");
         }
     }
-
-    /// The issues collected so far (for checks that call into other modules).
-    pub(crate) fn issues(&mut self) -> &mut Vec<ParamIssue> {
-        self.issues
-    }
 }

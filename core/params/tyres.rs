@@ -86,8 +86,12 @@ impl AxleTyre {
             -10.0,
             10.0,
         );
-        t.magic_formula
-            .check(&format!("tyre.{axle}.magic_formula"), checks.issues());
+        for issue in t.magic_formula.check() {
+            checks.push(
+                format!("tyre.{axle}.magic_formula.{}", issue.key),
+                issue.message,
+            );
+        }
         Self {
             model: TyreModel::new(&t.magic_formula),
             rolling_radius: t.rolling_radius,

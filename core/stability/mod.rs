@@ -75,7 +75,7 @@ fn no_trim_message(requested: f64, ax: f64, largest: Option<f64>) -> String {
             l / g
         ),
         None => format!(
-            "no steady state even at zero lateral acceleration with ax {:.3} g (drive torque or power insufficient, or beyond the grip)",
+            "no steady state even at zero lateral acceleration with ax {:.3} g (drive torque or power, or brake capacity, insufficient; or beyond the grip)",
             ax / g
         ),
     }

@@ -2,9 +2,10 @@
 //! holds a constant speed, lateral acceleration and (optionally) longitudinal
 //! acceleration.
 //!
-//! Unknowns (21): steering-wheel angle, total axle drive torque T (sent as
-//! `Commands::axle_torque = [S·T, (1 − S)·T]`, so T < 0 brakes through the
-//! drive units), and the 19 states vy, yaw rate, roll, roll rate, pitch, pitch
+//! Unknowns (21): steering-wheel angle, total longitudinal wheel torque T
+//! (T ≥ 0 drives: `Commands::axle_torque = [S·T, (1 − S)·T]`; T < 0 brakes:
+//! a brake request of −T over the brake capacity, shared by the brakes'
+//! own rule — bias and, on a hybrid, regenerative blending), and the 19 states vy, yaw rate, roll, roll rate, pitch, pitch
 //! rate, four wheel speeds, eight slip states and ay_geometric. vx = V is
 //! fixed. Equations (21): the derivatives of those 19 states are zero,
 //! v̇x = ax_target (zero for true steady cornering), and the model's
@@ -127,7 +128,8 @@ pub struct Trim {
     pub state: State,
     /// Commands at the trim (steering-wheel angle and axle torques set).
     pub commands: Commands,
-    /// Total axle drive torque at the wheels T, N·m (negative = braking through the drive units).
+    /// Total longitudinal torque at the wheels T, N·m: drive torque when
+    /// positive, brake torque −T from the brake request when negative.
     pub total_torque: f64,
     /// Largest scaled residual at the solution, 1.
     pub residual: f64,
@@ -155,12 +157,22 @@ impl Trim {
     }
 }
 
-/// Commands for unknown vector `z` (z[0] steering-wheel angle, z[1] total torque).
+/// Commands for unknown vector `z` (z[0] steering-wheel angle, z[1] total
+/// torque: drive torque split by the front share when positive, a brake
+/// request when negative).
 fn commands_for(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> Commands {
     let mut c = Commands::neutral(vehicle);
     c.steer_wheel_angle = z[0];
     c.front_share = target.front_share;
-    c.axle_torque = Some([target.front_share * z[1], (1.0 - target.front_share) * z[1]]);
+    let drive = z[1].max(0.0);
+    c.axle_torque = Some([
+        target.front_share * drive,
+        (1.0 - target.front_share) * drive,
+    ]);
+    let capacity = vehicle.brakes.max_torque;
+    if z[1] < 0.0 && capacity > 0.0 {
+        c.brake_request = -z[1] / capacity;
+    }
     c
 }
 

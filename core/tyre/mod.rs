@@ -8,7 +8,9 @@
 //! from the vehicle file with its plausibility check. It does not compute the
 //! slips from the wheel and body velocities, apply relaxation lengths, or
 //! integrate wheel spin: those live in the vehicle model. It allocates nothing
-//! and does no I/O, so it can be called inside the ODE right-hand side.
+//! and does no I/O, so it can be called inside the ODE right-hand side. It
+//! imports nothing from the rest of the crate: the parameter files build on
+//! it, not the other way round.
 //!
 //! Source for the equations: Pacejka, *Tire and Vehicle Dynamics* (2nd ed.
 //! 2006), ch. 4; the MF 5.2 details are written from memory (see each doc
@@ -17,5 +19,5 @@
 mod coefficients;
 mod model;
 
-pub use coefficients::MagicFormulaCoefficients;
+pub use coefficients::{CoefficientIssue, MagicFormulaCoefficients};
 pub use model::{CombinedSlip, TyreForce, TyreModel};
