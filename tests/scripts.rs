@@ -260,6 +260,7 @@ fn power_on_front_drive_understeers_rear_drive_oversteers() {
             "drive.front_share=0",
             "drive.rear.max_power=300000",
             "drive.rear.max_torque=800",
+            "drive.store.max_discharge_power=400000",
             "manoeuvre.exit_torque=6000",
             "manoeuvre.ramp_time=2.0",
         ],

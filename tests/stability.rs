@@ -564,12 +564,13 @@ fn roll_gradient_includes_overturning_moment_of_displaced_mass() {
     assert!(moment / milliken > 1.07, "{moment} vs {milliken}");
 }
 
-/// A trim with negative longitudinal acceleration brakes with the friction
-/// brakes at their bias (the brake proportioning of Gillespie, *Fundamentals
-/// of Vehicle Dynamics*, ch. 3), not with negative drive torque: straight
-/// braking at 0.6 g from 80 km/h on the demo crossover trims, the drive
-/// torque is zero, the front share of the brake torque is the bias, and the
-/// longitudinal force balance m·ax = ΣFx + F_drag holds (Newton).
+/// A trim with negative longitudinal acceleration brakes with the brakes at
+/// their bias (the brake proportioning of Gillespie, *Fundamentals of Vehicle
+/// Dynamics*, ch. 3), not with negative drive torque: straight braking at
+/// 0.6 g from 80 km/h on the demo crossover trims with zero drive torque;
+/// the rear motor-generator regenerates (blending "balance kept") and the
+/// front share of friction plus regenerative brake torque stays at the bias;
+/// the longitudinal force balance m·ax = ΣFx + F_drag holds (Newton).
 #[test]
 fn braking_trim_uses_the_brakes_at_their_bias() {
     let v = vehicle(&[]);
@@ -580,12 +581,17 @@ fn braking_trim_uses_the_brakes_at_their_bias() {
     let trim = find_trim(&v, &target, &TrimSettings::default()).expect("braking trim exists");
     assert!(trim.total_torque < 0.0);
     let e = evaluate(&v, &trim.state, &trim.commands);
-    assert_eq!(e.axle_drive_torque, [0.0, 0.0]);
-    let brake: Vec<f64> = e.wheels.iter().map(|w| w.brake_torque).collect();
-    let front = brake[0] + brake[1];
-    let total: f64 = brake.iter().sum();
+    let p = &e.powertrain;
+    assert_eq!(e.axle_available_torque.map(|t| t > 0.0), [true, true]);
+    assert_eq!(p.unit_torque[0], 0.0, "the engine gives no torque");
+    assert!(
+        p.regen_brake_torque[1] > 0.0,
+        "the rear motor-generator regenerates"
+    );
+    let axle = [0, 1].map(|k| p.friction_brake_torque[k] + p.regen_brake_torque[k]);
+    let total = axle[0] + axle[1];
     assert!((total + trim.total_torque).abs() < 1e-9 * total);
-    assert!((front / total - v.brakes.front_bias).abs() < 1e-12);
+    assert!((axle[0] / total - v.brakes.front_bias).abs() < 1e-12);
     // Tyre forces rotated from wheel to body axes (toe steers each wheel).
     let fx: f64 = e
         .wheels
@@ -598,7 +604,8 @@ fn braking_trim_uses_the_brakes_at_their_bias() {
 
 /// The command line reports the braking trim (it reported none while trims
 /// braked through the drive units): `yawdyn stability` at 80 km/h, 0 g
-/// lateral, −0.6 g longitudinal, with the brake torque per axle at the bias.
+/// lateral, −0.6 g longitudinal, with the front share of the braking torque
+/// (equal radii: of the braking force) at the bias.
 #[test]
 fn command_line_reports_braking_trim() {
     let dir = tempfile::tempdir().unwrap();
@@ -618,7 +625,6 @@ fn command_line_reports_braking_trim() {
     assert_eq!(code, 0, "{stderr}");
     let j: serde_json::Value = serde_json::from_str(&stdout).unwrap();
     assert_eq!(j["trim_found"], true);
-    let brake = &j["trim"]["axle_brake_torque_nm"];
-    let (front, rear) = (brake[0].as_f64().unwrap(), brake[1].as_f64().unwrap());
-    assert!((front / (front + rear) - 0.72).abs() < 1e-9, "{brake}");
+    let share = j["trim"]["braking_front_share"].as_f64().unwrap();
+    assert!((share - 0.72).abs() < 1e-9, "{share}");
 }

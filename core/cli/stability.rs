@@ -300,7 +300,9 @@ fn report_json(v: &Vehicle, r: &StabilityReport) -> Value {
             "pitch_deg": t.state[yawdyn::model::PITCH].to_degrees(),
             "total_drive_torque_nm": t.total_torque,
             "axle_drive_torque_nm": e.axle_drive_torque,
-            "axle_brake_torque_nm": axle_brake_torque(&e),
+            "axle_brake_torque_nm": e.powertrain.friction_brake_torque,
+            "axle_regen_brake_torque_nm": e.powertrain.regen_brake_torque,
+            "braking_front_share": e.powertrain.braking_front_share,
             "understeer_gradient_deg_per_g": r.understeer_gradient_deg_per_g(),
             "residual": t.residual,
             "wheels": wheels,
@@ -309,11 +311,6 @@ fn report_json(v: &Vehicle, r: &StabilityReport) -> Value {
         "modes": r.modes,
         "yaw_mode": r.yaw_mode,
     })
-}
-
-/// Friction brake torque per axle [front, rear], N·m (both wheels).
-fn axle_brake_torque(e: &yawdyn::model::Evaluation) -> [f64; 2] {
-    [0, 1].map(|axle| e.wheels[2 * axle].brake_torque + e.wheels[2 * axle + 1].brake_torque)
 }
 
 fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
@@ -366,10 +363,22 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
         "N*m",
     ]);
     tab.row(["drive torque, rear axle", &n(e.axle_drive_torque[1]), "N*m"]);
-    let brake = axle_brake_torque(&e);
-    if brake.iter().any(|b| *b != 0.0) {
-        tab.row(["brake torque, front axle", &n(brake[0]), "N*m"]);
-        tab.row(["brake torque, rear axle", &n(brake[1]), "N*m"]);
+    let (brake, regen) = (
+        e.powertrain.friction_brake_torque,
+        e.powertrain.regen_brake_torque,
+    );
+    if brake.iter().chain(&regen).any(|b| *b != 0.0) {
+        tab.row(["friction brake torque, front axle", &n(brake[0]), "N*m"]);
+        tab.row(["friction brake torque, rear axle", &n(brake[1]), "N*m"]);
+        if regen.iter().any(|b| *b != 0.0) {
+            tab.row(["regenerative brake torque, front axle", &n(regen[0]), "N*m"]);
+            tab.row(["regenerative brake torque, rear axle", &n(regen[1]), "N*m"]);
+        }
+        tab.row([
+            "front share of braking force",
+            &n(e.powertrain.braking_front_share),
+            "1",
+        ]);
     }
     tab.row([
         "understeer gradient (local)",

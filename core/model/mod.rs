@@ -12,10 +12,11 @@
 //! | aerodynamics | `aero.rs` | [`Aero`](crate::params::Aero) | drag, downforce |
 //! | wheel loads | `loads.rs` | [`Chassis`](crate::params::Chassis), aero | Fz per wheel |
 //! | steering | `steering.rs` | [`Steering`](crate::params::Steering) | road-wheel angles |
-//! | powertrain and brakes | `powertrain.rs` | [`Powertrain`](crate::params::Powertrain), [`Brakes`](crate::params::Brakes) | drive and brake torque per wheel |
+//! | powertrain and brakes | `powertrain.rs` (with `units.rs`, `store.rs`, `brakes.rs`) | [`Powertrain`](crate::params::Powertrain), [`Brakes`](crate::params::Brakes) | drive and brake torque per wheel; power, fuel and energy flows |
 //! | tyres | `tyres.rs` | [`AxleTyre`](crate::params::AxleTyre), [`Road`](crate::params::Road) | contact-patch velocities, tyre forces |
 //! | chassis equations | `chassis.rs` | chassis | body, roll, pitch derivatives; ax, ay |
 //! | wheel equations | `wheels.rs` | tyres | wheel spin and slip derivatives |
+//! | energy equations | `powertrain.rs` | powertrain | fuel used and stored energy derivatives |
 //!
 //! Model summary (ISO 8855 axes: x forward, y left, z up):
 //! - planar body motion (vx, vy, yaw rate) with global position and heading;
@@ -26,12 +27,17 @@
 //! - four wheel spins, Magic Formula tyres with first-order relaxation of
 //!   slip ratio and slip angle;
 //! - steering with Ackermann fraction and toe; aero drag and downforce;
-//! - drive units with torque and power limits, per-axle differentials, brakes.
+//! - drive units per axle, each an engine (torque curve, power, optional
+//!   fuel-flow limit, fuel mass flow) or a motor-generator on an energy store
+//!   (motoring and generating limits, efficiencies), per-axle differentials,
+//!   friction brakes blended with regenerative braking; fuel used and stored
+//!   energy are integrated states.
 //!
 //! It does not integrate (see [`crate::sim`]) and does not know about
 //! manoeuvres or files.
 
 mod aero;
+mod brakes;
 mod chassis;
 mod commands;
 pub mod linear;
@@ -39,17 +45,27 @@ mod loads;
 mod powertrain;
 mod state;
 mod steering;
+mod store;
 mod tyres;
+mod units;
 mod wheels;
 
 pub use aero::{AeroForces, aero_forces};
+pub use brakes::{BrakeSplit, blend_brakes};
 pub use chassis::{AY_GEOMETRIC_TIME_CONSTANT, BodyAcceleration, chassis_equations};
-pub use commands::Commands;
+pub use commands::{Commands, Deploy, PowertrainCommands};
 pub use loads::{static_axle_loads, wheel_loads};
-pub use powertrain::{WheelTorques, available_wheel_torque, differential_split, wheel_torques};
+pub use powertrain::{
+    PowertrainOutput, WheelTorques, differential_split, energy_equations, powertrain,
+};
 pub use state::*;
 pub use steering::{road_wheel_angles, wheel_positions};
+pub use store::{StoreLimits, energy_rate, state_of_charge, store_limits};
 pub use tyres::{ContactPatches, contact_patches};
+pub use units::{
+    electrical_power, engine_available_torque, fuel_mass_flow, generator_available_torque,
+    motor_available_torque, shaft_torque, torque_for_output_power, torque_from_input_power,
+};
 pub use wheels::{LOW_SPEED, STANDSTILL_WHEEL_SPEED, wheel_equations};
 
 use crate::params::{GRAVITY, Vehicle};
@@ -70,9 +86,10 @@ pub struct WheelOutput {
     pub tan_slip_angle: f64,
     /// Road-wheel steer angle, rad.
     pub steer_angle: f64,
-    /// Drive torque applied to the wheel, N·m.
+    /// Powertrain torque applied to the wheel, N·m (negative while a
+    /// motor-generator brakes it).
     pub drive_torque: f64,
-    /// Brake torque applied to the wheel (magnitude before the standstill fade), N·m.
+    /// Friction brake torque applied to the wheel (magnitude before the standstill fade), N·m.
     pub brake_torque: f64,
     /// Longitudinal speed of the contact patch in wheel axes, m/s.
     pub contact_speed: f64,
@@ -93,10 +110,13 @@ pub struct Evaluation {
     pub drag_force: f64,
     /// Total downforce, N.
     pub downforce: f64,
-    /// Drive torque at the wheels per axle [front, rear], N·m.
+    /// Net powertrain torque at the wheels per axle [front, rear], N·m
+    /// (regenerative braking counts negative).
     pub axle_drive_torque: [f64; 2],
     /// Drive torque available at the wheels per axle at the current speed [front, rear], N·m.
     pub axle_available_torque: [f64; 2],
+    /// Power, fuel and energy flows, regenerative and friction braking per axle.
+    pub powertrain: PowertrainOutput,
 }
 
 /// Evaluates the model: state derivatives and all derived quantities, stage
@@ -116,12 +136,13 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
     let aero = aero_forces(&v.aero, x[VX]);
     let fz = wheel_loads(&v.chassis, &v.aero, &aero, x);
     let steer = road_wheel_angles(&v.steering, &v.chassis, c.steer_wheel_angle);
-    let torques = wheel_torques(v, x, c);
+    let (torques, power) = powertrain(v, x, c);
     let positions = wheel_positions(&v.chassis);
     let patches = contact_patches(&v.tyres, &v.road, &positions, &steer, &fz, x);
     let mut d = State::zeros();
     let body = chassis_equations(&v.chassis, &positions, &patches, aero.drag_force, x, &mut d);
     wheel_equations(&v.tyres, &fz, &patches, &torques, x, &mut d);
+    energy_equations(&power, &mut d);
     Evaluation {
         derivative: d,
         ax: body.ax,
@@ -141,16 +162,23 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
         downforce: aero.downforce,
         axle_drive_torque: torques.axle_drive,
         axle_available_torque: torques.axle_available,
+        powertrain: power,
     }
 }
 
-/// A state running straight at `speed` (m/s): wheels rolling freely, body level, no slip.
+/// A state running straight at `speed` (m/s): wheels rolling freely, body
+/// level, no slip, no fuel used, the store at its initial state of charge.
 pub fn straight_running(v: &Vehicle, speed: f64) -> State {
     let mut x = State::zeros();
     x[VX] = speed;
     for i in 0..4 {
         x[WHEEL_SPEED + i] = speed / v.tyres[i / 2].rolling_radius;
     }
+    x[STORE_ENERGY] = v
+        .powertrain
+        .store
+        .as_ref()
+        .map_or(0.0, |s| s.initial_energy());
     x
 }
 

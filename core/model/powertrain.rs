@@ -1,69 +1,209 @@
-//! Stage 4, powertrain and brakes: the torque each drive unit can give, the
-//! split of the drive demand between the axles, the differentials, and the
-//! friction brakes. Gives the drive and brake torque at every wheel.
+//! Stage 4, powertrain and brakes: the torque each drive unit can give or
+//! take now (engines under torque, power and fuel-flow limits;
+//! motor-generators under their own limits and the energy store's), the
+//! split of the drive demand between the axles, electric deployment, the
+//! blending of regenerative and friction braking (`brakes.rs`), the
+//! differentials, and the power, fuel and energy flows that result.
 
-use super::commands::Commands;
-use super::state::{State, WHEEL_SPEED};
-use crate::params::{DifferentialKind, DriveUnit, FRONT, REAR, Vehicle};
+use super::brakes::blend_brakes;
+use super::commands::{Commands, Deploy};
+use super::state::{FUEL_USED, STORE_ENERGY, State, WHEEL_SPEED};
+use super::store::{StoreLimits, energy_rate, state_of_charge, store_limits};
+use super::units::{
+    electrical_power, engine_available_torque, fuel_mass_flow, generator_available_torque,
+    motor_available_torque, motor_generator, shaft_torque, torque_for_output_power,
+    torque_from_input_power,
+};
+use super::wheels::STANDSTILL_WHEEL_SPEED;
+use crate::params::{DifferentialKind, DriveUnit, FRONT, Machine, REAR, Vehicle};
 
-/// Torques of the powertrain and brakes at one evaluation.
+/// Drive and brake torques at the wheels of one evaluation.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct WheelTorques {
-    /// Drive torque at each wheel after the differential, torque vectoring included, N·m.
+    /// Powertrain torque at each wheel after the differential, torque
+    /// vectoring included, N·m (negative while a motor-generator brakes it).
     pub drive: [f64; 4],
     /// Friction brake torque at each wheel (magnitude, before the standstill fade), N·m.
     pub brake: [f64; 4],
-    /// Drive torque at the wheels per axle [front, rear], N·m (both wheels, before vectoring).
+    /// Net powertrain torque at the wheels per axle [front, rear], N·m (both
+    /// wheels, before vectoring; regenerative braking counts negative).
     pub axle_drive: [f64; 2],
     /// Drive torque available at the wheels per axle [front, rear], N·m.
     pub axle_available: [f64; 2],
 }
 
-/// Largest torque at the wheels of a unit (sum of both wheels) at axle wheel
-/// speed `wheel_speed` (rad/s), N·m: η·i·min(T_max, P_max/ω_unit) with
-/// ω_unit = i·|ω_wheel| (common practice: torque is capped by the unit's
-/// torque and by power over speed).
-#[inline]
-pub fn available_wheel_torque(u: &DriveUnit, wheel_speed: f64) -> f64 {
-    let unit_speed = (u.ratio * wheel_speed).abs();
-    let unit_torque = if unit_speed * u.max_torque > u.max_power {
-        u.max_power / unit_speed
-    } else {
-        u.max_torque
-    };
-    u.efficiency * u.ratio * unit_torque
+/// Power, fuel and energy quantities of one evaluation. Arrays are per axle
+/// [front, rear] and zero where the axle has no unit of that kind.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct PowertrainOutput {
+    /// Torque at each unit's shaft, N·m (negative while generating).
+    pub unit_torque: [f64; 2],
+    /// Speed of each unit's shaft, ratio × mean wheel speed of its axle, rad/s.
+    pub unit_speed: [f64; 2],
+    /// Mechanical power at each unit's shaft T·ω, W (negative while generating).
+    pub unit_power: [f64; 2],
+    /// Electrical power at each motor-generator's terminals, W (positive drawn from the store).
+    pub electrical_power: [f64; 2],
+    /// Fuel mass flow of each engine with a fuel model, kg/s.
+    pub fuel_mass_flow: [f64; 2],
+    /// Shaft power of the engines, summed, W.
+    pub engine_power: f64,
+    /// Shaft power of the motor-generators, summed, W.
+    pub motor_mechanical_power: f64,
+    /// Power at the store's terminals (sum of the motor-generators'), W (positive discharging).
+    pub store_terminal_power: f64,
+    /// Fuel mass flow of all engines, kg/s (the derivative of `fuel_used`).
+    pub total_fuel_mass_flow: f64,
+    /// Stored energy, J (the state `store_energy`; 0 without a store).
+    pub store_energy: f64,
+    /// Rate of change of the stored energy, W (its derivative).
+    pub store_energy_rate: f64,
+    /// State of charge, 1 (0 without a store).
+    pub state_of_charge: f64,
+    /// Power the store may give and take now at its terminals, W.
+    pub store_limits: StoreLimits,
+    /// Regenerative brake torque at the wheels per axle, N·m (≥ 0, both wheels).
+    pub regen_brake_torque: [f64; 2],
+    /// Friction brake torque per axle, N·m (both wheels, per-wheel extras included).
+    pub friction_brake_torque: [f64; 2],
+    /// Braking torque each axle's generator could take now at the wheels, N·m.
+    pub available_regen_torque: [f64; 2],
+    /// Front share of the braking force (friction and regeneration, torque over
+    /// rolling radius), 1; the brake bias when nothing brakes.
+    pub braking_front_share: f64,
 }
 
-/// Split of the drive demand into axle torques at the wheels [front, rear], N·m,
-/// and the torque each axle could give [front, rear], N·m.
-///
-/// In request mode the demand is request × (sum of available torques), sent
-/// front/rear by the share and capped by each axle's availability (the excess
-/// is not redistributed). Axle-torque mode caps each torque at ± availability.
+/// What each axle's unit can do now, and the store's share for each.
+#[derive(Debug, Clone, Copy, Default)]
+struct Availability {
+    /// Shaft speed of each unit, rad/s.
+    speed: [f64; 2],
+    /// Drive torque available at the wheels, N·m (≥ 0).
+    drive: [f64; 2],
+    /// Generating (braking) torque available at the wheels, N·m (≥ 0).
+    generate: [f64; 2],
+    /// Share of the store's power for each motor-generator, 1.
+    share: [f64; 2],
+}
+
+/// Mean wheel speed of an axle, rad/s.
 #[inline]
-fn axle_torques(v: &Vehicle, x: &State, c: &Commands) -> ([f64; 2], [f64; 2]) {
-    let mut available = [0.0; 2];
-    for (axle, unit) in v.powertrain.units.iter().enumerate() {
-        if let Some(u) = unit {
-            let w = 0.5 * (x[WHEEL_SPEED + 2 * axle] + x[WHEEL_SPEED + 2 * axle + 1]);
-            available[axle] = available_wheel_torque(u, w);
+fn axle_wheel_speed(x: &State, axle: usize) -> f64 {
+    0.5 * (x[WHEEL_SPEED + 2 * axle] + x[WHEEL_SPEED + 2 * axle + 1])
+}
+
+/// Drive and generating torque each axle can give now. The store's power
+/// (after the harvest limit) is shared by the motor-generators in proportion
+/// to their power ratings; generating fades out below
+/// [`STANDSTILL_WHEEL_SPEED`] like the friction brakes (a generator cannot
+/// hold a car at rest).
+#[inline]
+fn availability(v: &Vehicle, x: &State, c: &Commands, limits: StoreLimits) -> Availability {
+    let units = &v.powertrain.units;
+    let rating = |k: usize| {
+        units[k]
+            .as_ref()
+            .filter(|u| motor_generator(u).is_some())
+            .map_or(0.0, |u| u.max_power)
+    };
+    let rated = rating(FRONT) + rating(REAR);
+    let harvest = c
+        .powertrain
+        .harvest_limit
+        .map_or(f64::INFINITY, |h| h.max(0.0));
+    let mut a = Availability::default();
+    for (k, unit) in units.iter().enumerate() {
+        let Some(u) = unit else { continue };
+        let wheel_speed = axle_wheel_speed(x, k);
+        let speed = u.ratio * wheel_speed;
+        a.speed[k] = speed;
+        let to_wheels = u.efficiency * u.ratio;
+        match &u.machine {
+            Machine::Engine(fuel) => {
+                a.drive[k] = to_wheels * engine_available_torque(u, fuel.as_ref(), speed);
+            }
+            Machine::MotorGenerator(mg) => {
+                a.share[k] = if rated > 0.0 { rating(k) / rated } else { 0.0 };
+                let discharge = a.share[k] * limits.discharge;
+                let charge = a.share[k] * limits.charge.min(harvest);
+                a.drive[k] = to_wheels * motor_available_torque(u, mg, speed, discharge);
+                let fade = (wheel_speed / STANDSTILL_WHEEL_SPEED).clamp(0.0, 1.0);
+                a.generate[k] =
+                    fade * generator_available_torque(mg, speed, charge) * u.ratio / u.efficiency;
+            }
         }
     }
-    let torque = match c.axle_torque {
-        Some(t) => [
-            t[FRONT].clamp(-available[FRONT], available[FRONT]),
-            t[REAR].clamp(-available[REAR], available[REAR]),
-        ],
-        None => {
+    a
+}
+
+/// Wheel torque (both wheels) a deployment request asks of the unit on an
+/// axle holding `share` of the store, N·m.
+#[inline]
+fn deployed_torque(u: &DriveUnit, speed: f64, share: f64, deploy: Deploy) -> f64 {
+    let Some(mg) = motor_generator(u) else {
+        return 0.0;
+    };
+    match deploy {
+        Deploy::Torque(t) => share * t,
+        Deploy::Power(p) if p >= 0.0 => {
+            let shaft =
+                torque_from_input_power(&mg.motoring_efficiency, speed, share * p, f64::INFINITY);
+            shaft * u.efficiency * u.ratio
+        }
+        Deploy::Power(p) => {
+            let shaft = torque_for_output_power(
+                &mg.generating_efficiency,
+                speed,
+                -share * p,
+                f64::INFINITY,
+            );
+            -shaft * u.ratio / u.efficiency
+        }
+    }
+}
+
+/// Drive torque asked of each axle, N·m at the wheels, within its limits
+/// [−generating, drive] available.
+///
+/// Request mode: T = request × (sum of available torques), sent front/rear
+/// by the share. Axle-torque mode: the given torques. A deployment request
+/// replaces the motor-generators' demand; the drive request then asks each
+/// other unit for that fraction of its own available torque. With spare
+/// torque on (and no deployment), the positive demand one axle cannot meet
+/// goes to the other axle, so a full request delivers all available torque.
+#[inline]
+fn drive_demand(v: &Vehicle, c: &Commands, a: &Availability) -> [f64; 2] {
+    let units = &v.powertrain.units;
+    let deploy = c.powertrain.deploy;
+    let request = c.drive_request.clamp(0.0, 1.0);
+    let mut demand = match (c.axle_torque, deploy) {
+        (Some(t), _) => t,
+        (None, Some(_)) => [request * a.drive[FRONT], request * a.drive[REAR]],
+        (None, None) => {
             let share = c.front_share.clamp(0.0, 1.0);
-            let total = c.drive_request.clamp(0.0, 1.0) * (available[FRONT] + available[REAR]);
-            [
-                (share * total).min(available[FRONT]),
-                ((1.0 - share) * total).min(available[REAR]),
-            ]
+            let total = request * (a.drive[FRONT] + a.drive[REAR]);
+            [share * total, (1.0 - share) * total]
         }
     };
-    (torque, available)
+    if let Some(d) = deploy {
+        for (k, unit) in units.iter().enumerate() {
+            if let Some(u) = unit.as_ref().filter(|u| motor_generator(u).is_some()) {
+                demand[k] = deployed_torque(u, a.speed[k], a.share[k], d);
+            }
+        }
+    }
+    let mut torque = [FRONT, REAR].map(|k| demand[k].clamp(-a.generate[k], a.drive[k]));
+    let spare = c
+        .powertrain
+        .spare_torque_to_other_axle
+        .unwrap_or(v.powertrain.spare_torque_to_other_axle);
+    if spare && deploy.is_none() {
+        let unmet = [FRONT, REAR].map(|k| (demand[k] - torque[k]).max(0.0));
+        for (k, other) in [(FRONT, REAR), (REAR, FRONT)] {
+            torque[other] = (torque[other] + unmet[k]).min(a.drive[other].max(torque[other]));
+        }
+    }
+    torque
 }
 
 /// Torque sent to the left and right wheels of a driven axle, N·m.
@@ -85,40 +225,95 @@ pub fn differential_split(u: &DriveUnit, torque: f64, w_left: f64, w_right: f64)
     (0.5 * torque - lock, 0.5 * torque + lock)
 }
 
-/// Drive and brake torque at every wheel: the axle demand through each
-/// differential, plus torque vectoring; the brake request × capacity split by
-/// the front bias, half per wheel, plus the per-wheel extra brake.
+/// The powertrain and brakes stage: drive and brake torque at every wheel,
+/// and the power, fuel and energy flows (see the module documentation and
+/// each function for the equations).
 #[inline]
-pub fn wheel_torques(v: &Vehicle, x: &State, c: &Commands) -> WheelTorques {
-    let (axle_drive, axle_available) = axle_torques(v, x, c);
-    let mut drive = [0.0; 4];
-    for (axle, unit) in v.powertrain.units.iter().enumerate() {
-        if let Some(u) = unit {
-            let (left, right) = differential_split(
-                u,
-                axle_drive[axle],
-                x[WHEEL_SPEED + 2 * axle],
-                x[WHEEL_SPEED + 2 * axle + 1],
-            );
-            drive[2 * axle] = left;
-            drive[2 * axle + 1] = right;
+pub fn powertrain(v: &Vehicle, x: &State, c: &Commands) -> (WheelTorques, PowertrainOutput) {
+    let pt = &v.powertrain;
+    let mut out = PowertrainOutput::default();
+    if let Some(s) = &pt.store {
+        out.store_energy = x[STORE_ENERGY];
+        out.state_of_charge = state_of_charge(s, x[STORE_ENERGY]);
+        out.store_limits = store_limits(s, x[STORE_ENERGY]);
+    }
+    let a = availability(v, x, c, out.store_limits);
+    let drive_torque = drive_demand(v, c, &a);
+    // Regenerative capacity left on each axle after its drive command.
+    let capacity = [FRONT, REAR].map(|k| (a.generate[k] + drive_torque[k]).max(0.0));
+    let rule = c.powertrain.blending.unwrap_or(v.brakes.blending);
+    let split = blend_brakes(&v.brakes, rule, c.brake_request, capacity);
+    let mut wheels = WheelTorques {
+        axle_available: a.drive,
+        ..WheelTorques::default()
+    };
+    for (k, unit) in pt.units.iter().enumerate() {
+        let Some(u) = unit else { continue };
+        let net = drive_torque[k] - split.regen[k];
+        wheels.axle_drive[k] = net;
+        let (left, right) =
+            differential_split(u, net, x[WHEEL_SPEED + 2 * k], x[WHEEL_SPEED + 2 * k + 1]);
+        wheels.drive[2 * k] = left;
+        wheels.drive[2 * k + 1] = right;
+        unit_flows(u, k, net, a.speed[k], &mut out);
+    }
+    for i in 0..4 {
+        wheels.drive[i] += c.wheel_torque[i];
+        wheels.brake[i] = 0.5 * split.friction[i / 2] + c.wheel_brake[i].max(0.0);
+    }
+    out.regen_brake_torque = split.regen;
+    out.available_regen_torque = a.generate;
+    out.friction_brake_torque =
+        [FRONT, REAR].map(|k| wheels.brake[2 * k] + wheels.brake[2 * k + 1]);
+    out.braking_front_share = braking_front_share(v, &out);
+    if let Some(s) = &pt.store {
+        out.store_energy_rate = energy_rate(s, out.store_terminal_power);
+    }
+    (wheels, out)
+}
+
+/// Shaft torque, power, electrical power and fuel flow of the unit on axle
+/// `k` giving net wheel torque `net` (N·m) at shaft speed `speed` (rad/s).
+#[inline]
+fn unit_flows(u: &DriveUnit, k: usize, net: f64, speed: f64, out: &mut PowertrainOutput) {
+    let torque = shaft_torque(u, net);
+    let power = torque * speed;
+    out.unit_torque[k] = torque;
+    out.unit_speed[k] = speed;
+    out.unit_power[k] = power;
+    match &u.machine {
+        Machine::Engine(fuel) => {
+            out.engine_power += power;
+            if let Some(f) = fuel {
+                out.fuel_mass_flow[k] = fuel_mass_flow(f, speed, torque);
+                out.total_fuel_mass_flow += out.fuel_mass_flow[k];
+            }
+        }
+        Machine::MotorGenerator(mg) => {
+            out.motor_mechanical_power += power;
+            out.electrical_power[k] = electrical_power(mg, speed, torque);
+            out.store_terminal_power += out.electrical_power[k];
         }
     }
-    let brakes = &v.brakes;
-    let brake_total = c.brake_request.clamp(0.0, 1.0) * brakes.max_torque;
-    let brake_axle = [
-        0.5 * brake_total * brakes.front_bias,
-        0.5 * brake_total * (1.0 - brakes.front_bias),
-    ];
-    let mut brake = [0.0; 4];
-    for i in 0..4 {
-        drive[i] += c.wheel_torque[i];
-        brake[i] = brake_axle[i / 2] + c.wheel_brake[i].max(0.0);
+}
+
+/// Front share of the braking force: Σ(friction + regeneration)/R per axle.
+#[inline]
+fn braking_front_share(v: &Vehicle, out: &PowertrainOutput) -> f64 {
+    let force = [FRONT, REAR].map(|k| {
+        (out.friction_brake_torque[k] + out.regen_brake_torque[k]) / v.tyres[k].rolling_radius
+    });
+    let total = force[FRONT] + force[REAR];
+    if total > 0.0 {
+        force[FRONT] / total
+    } else {
+        v.brakes.front_bias
     }
-    WheelTorques {
-        drive,
-        brake,
-        axle_drive,
-        axle_available,
-    }
+}
+
+/// Writes the derivatives of fuel used (kg) and stored energy (J) into `d`.
+#[inline]
+pub fn energy_equations(out: &PowertrainOutput, d: &mut State) {
+    d[FUEL_USED] = out.total_fuel_mass_flow;
+    d[STORE_ENERGY] = out.store_energy_rate;
 }

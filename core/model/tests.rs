@@ -86,14 +86,22 @@ fn differential_torque_split() {
     assert!((r - l - 2.0 * unit.differential.coupling_damping * 0.1).abs() < 1e-6);
 }
 
-/// The power limit: available torque is min(T_max, P_max/ω) at the unit.
+/// The power limit (common practice): available torque is min(T_max, P_max/ω)
+/// at the unit, η·i times that at the wheels, as the model reports it.
 #[test]
 fn available_torque_is_capped_by_power() {
     let v = crossover();
     let u = v.powertrain.units[FRONT].clone().unwrap();
-    let low = available_wheel_torque(&u, 1.0);
-    assert_eq!(low, u.efficiency * u.ratio * u.max_torque);
+    let at = |wheel_speed: f64| {
+        let mut x = straight_running(&v, 1.0);
+        for i in 0..4 {
+            x[WHEEL_SPEED + i] = wheel_speed;
+        }
+        evaluate(&v, &x, &Commands::neutral(&v)).axle_available_torque[FRONT]
+    };
+    let low = at(1.0);
+    assert_eq!(low, u.efficiency * u.ratio * u.max_torque.value(u.ratio));
     let w = 100.0;
-    let high = available_wheel_torque(&u, w);
+    let high = at(w);
     assert!((high * w - u.efficiency * u.max_power).abs() < 1e-6);
 }

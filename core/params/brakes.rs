@@ -1,4 +1,5 @@
-//! The `[brakes]` group: the friction brakes' capacity and front/rear bias.
+//! The `[brakes]` group: the friction brakes' capacity and front/rear bias,
+//! and the rule that blends regenerative braking with them.
 
 use serde::{Deserialize, Serialize};
 
@@ -12,6 +13,25 @@ pub struct BrakesFile {
     pub max_torque: f64,
     /// Front share of the brake torque, 0..1.
     pub front_bias: f64,
+    /// How a motor-generator's regenerative braking shares the brake request
+    /// with the friction brakes. Default `balance_kept`.
+    #[serde(default)]
+    pub blending: BlendingRule,
+}
+
+/// How the brake request is shared between the friction brakes and the
+/// motor-generator(s) on the energy store.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum BlendingRule {
+    /// Regeneration replaces friction braking on its own axle, up to that
+    /// axle's share of the request: the front/rear balance stays at the bias.
+    #[default]
+    BalanceKept,
+    /// The generator takes what it can of the whole request first; the
+    /// friction brakes supply the rest at their bias, so the balance moves
+    /// towards the generating axle.
+    RegenerationFirst,
 }
 
 /// The checked friction brakes.
@@ -21,6 +41,8 @@ pub struct Brakes {
     pub max_torque: f64,
     /// Front share of the brake torque, 1 (0..1).
     pub front_bias: f64,
+    /// Default blending of regenerative and friction braking.
+    pub blending: BlendingRule,
 }
 
 impl Brakes {
@@ -31,6 +53,7 @@ impl Brakes {
         Self {
             max_torque: b.max_torque,
             front_bias: b.front_bias,
+            blending: b.blending,
         }
     }
 }

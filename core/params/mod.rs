@@ -6,7 +6,8 @@
 //! Each section has its own file here holding its raw schema, its checked
 //! group and the function that checks one and builds the other (`build`):
 //! `[chassis]` → [`Chassis`], `[steering]` → [`Steering`], `[aero]` →
-//! [`Aero`], `[tyre.*]` → [`AxleTyre`], `[drive]` → [`Powertrain`],
+//! [`Aero`], `[tyre.*]` → [`AxleTyre`], `[drive]` → [`Powertrain`] (with
+//! `[drive.store]` → [`EnergyStore`] and tables → [`Curve`], [`Map`]),
 //! `[brakes]` → [`Brakes`], `[road]` → [`Road`]. This module holds data and
 //! its checks only; what the numbers do (power limits, load transfer, tyre
 //! forces) lives in [`crate::model`].
@@ -27,19 +28,23 @@ mod issue;
 mod load;
 mod road;
 mod steering;
+mod store;
+mod tables;
 mod tyres;
 mod vehicle;
 
 pub use aero::{Aero, AeroFile};
-pub use brakes::{Brakes, BrakesFile};
+pub use brakes::{BlendingRule, Brakes, BrakesFile};
 pub use chassis::{Chassis, ChassisFile, FRONT, REAR};
 pub use drive::{
-    Differential, DifferentialFile, DifferentialKind, DriveFile, DriveUnit, DriveUnitFile,
-    Powertrain,
+    Differential, DifferentialFile, DifferentialKind, DriveFile, DriveUnit, DriveUnitFile, Fuel,
+    FuelFile, Machine, MotorGenerator, Powertrain, TorqueLimit, UnitKind,
 };
 pub use issue::{ParamError, ParamIssue};
 pub use load::{OVERRIDE_SOURCE, Override, load_vehicle, load_vehicle_text};
 pub use road::{Road, RoadFile};
 pub use steering::{Steering, SteeringFile};
+pub use store::{EnergyStore, StoreFile};
+pub use tables::{Curve, Efficiency, EfficiencyMapFile, Map, MapSlice, RPM, TorqueCurveFile};
 pub use tyres::{AxlePair, AxleTyre, TyreFile};
 pub use vehicle::{GRAVITY, Vehicle, VehicleFile};

@@ -176,9 +176,11 @@ fn commands_for(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> Com
     c
 }
 
-fn state_for(target: &TrimTarget, z: &DVector<f64>) -> State {
-    let mut x = State::zeros();
-    x[VX] = target.speed;
+/// The state for unknown vector `z`: straight running at the target speed
+/// (fuel used zero, store at its initial state of charge) with the trim
+/// states taken from `z`.
+fn state_for(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> State {
+    let mut x = straight_running(vehicle, target.speed);
     for (k, &i) in TRIM_STATES.iter().enumerate() {
         x[i] = z[2 + k];
     }
@@ -191,7 +193,7 @@ fn state_for(target: &TrimTarget, z: &DVector<f64>) -> State {
 /// make it a force, moment or speed, then divided by a reference force m·g
 /// (moment m·g·L or m·g·h, speed V) so that the line search weighs them alike.
 pub fn trim_residual(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> DVector<f64> {
-    let x = state_for(target, z);
+    let x = state_for(vehicle, target, z);
     let c = commands_for(vehicle, target, z);
     let e = evaluate(vehicle, &x, &c);
     let d = &e.derivative;
@@ -395,7 +397,7 @@ pub fn find_trim(
     }
     Ok(Trim {
         target: *target,
-        state: state_for(target, &z),
+        state: state_for(vehicle, target, &z),
         commands: commands_for(vehicle, target, &z),
         total_torque: z[1],
         residual,
@@ -424,7 +426,7 @@ pub fn retrim(
     let (z, residual) = newton(vehicle, &target, &z, settings)?;
     Some(Trim {
         target,
-        state: state_for(&target, &z),
+        state: state_for(vehicle, &target, &z),
         commands: commands_for(vehicle, &target, &z),
         total_torque: z[1],
         residual,

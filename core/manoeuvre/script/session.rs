@@ -147,6 +147,7 @@ impl crate::sim::InputSource for Inputs<'_> {
             }),
             wheel_torque: h.wheel_torque,
             wheel_brake: h.wheel_brake,
+            powertrain: crate::model::PowertrainCommands::default(),
         }
     }
 }
