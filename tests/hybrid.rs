@@ -295,9 +295,9 @@ fn blending_rules_give_their_closed_form_shares() {
         let share = fx[0] / (fx[0] + fx[1]);
         assert!(xs[VX] < speed);
         assert!(
-            (share - es.powertrain.braking_front_share).abs() < 0.02,
+            (share - es.powertrain.braking_front_share(&v)).abs() < 0.02,
             "{rule:?}: tyre force share {share} vs torque share {}",
-            es.powertrain.braking_front_share
+            es.powertrain.braking_front_share(&v)
         );
     }
 }

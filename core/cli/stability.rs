@@ -302,7 +302,7 @@ fn report_json(v: &Vehicle, r: &StabilityReport) -> Value {
             "axle_drive_torque_nm": e.axle_drive_torque,
             "axle_brake_torque_nm": e.powertrain.friction_brake_torque,
             "axle_regen_brake_torque_nm": e.powertrain.regen_brake_torque,
-            "braking_front_share": e.powertrain.braking_front_share,
+            "braking_front_share": e.powertrain.braking_front_share(v),
             "understeer_gradient_deg_per_g": r.understeer_gradient_deg_per_g(),
             "residual": t.residual,
             "wheels": wheels,
@@ -376,7 +376,7 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
         }
         tab.row([
             "front share of braking force",
-            &n(e.powertrain.braking_front_share),
+            &n(e.powertrain.braking_front_share(v)),
             "1",
         ]);
     }

@@ -15,7 +15,7 @@ pub struct AeroForces {
 /// opposing vx (Gillespie, *Fundamentals of Vehicle Dynamics*, ch. 4, road
 /// loads: aerodynamic drag and lift, from memory for the chapter). Body-axis
 /// vx stands in for the airspeed (no wind, sideslip neglected).
-#[inline]
+#[inline(always)]
 pub fn aero_forces(aero: &Aero, vx: f64) -> AeroForces {
     let q = 0.5 * aero.air_density * vx * vx;
     AeroForces {

@@ -3,6 +3,13 @@
 
 use crate::params::{BlendingRule, Brakes, FRONT, REAR};
 
+/// `[f(FRONT), f(REAR)]`: a per-axle array without the iterator machinery
+/// of `array::map` (the inner loop is hot).
+#[inline(always)]
+pub(crate) fn per_axle(f: impl Fn(usize) -> f64) -> [f64; 2] {
+    [f(FRONT), f(REAR)]
+}
+
 /// Braking torque at the wheels per axle [front, rear], N·m (both wheels, ≥ 0).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct BrakeSplit {
@@ -35,9 +42,9 @@ pub fn blend_brakes(
     match rule {
         BlendingRule::BalanceKept => {
             let share = at_bias(total);
-            let regen = [FRONT, REAR].map(|k| share[k].min(regen_capacity[k]));
+            let regen = per_axle(|k| share[k].min(regen_capacity[k]));
             BrakeSplit {
-                friction: [FRONT, REAR].map(|k| share[k] - regen[k]),
+                friction: per_axle(|k| share[k] - regen[k]),
                 regen,
             }
         }
@@ -45,7 +52,7 @@ pub fn blend_brakes(
             let capacity = regen_capacity[FRONT] + regen_capacity[REAR];
             let taken = total.min(capacity);
             let regen = if capacity > 0.0 {
-                regen_capacity.map(|c| taken * c / capacity)
+                per_axle(|k| taken * regen_capacity[k] / capacity)
             } else {
                 [0.0; 2]
             };

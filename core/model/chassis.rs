@@ -38,7 +38,7 @@ pub struct BodyAcceleration {
 ///   steady state the elastic transfer is m·ax·h/L (Milliken & Milliken,
 ///   ch. 18); the CG shift due to pitch (m·g·h·θ) is neglected, as in that formula;
 /// - τ·ȧyg = ay − ayg, the filter of the roll-centre transfer.
-#[inline]
+#[inline(always)]
 pub fn chassis_equations(
     c: &Chassis,
     positions: &[(f64, f64); 4],

@@ -24,7 +24,7 @@ pub fn static_axle_loads(c: &Chassis) -> [f64; 2] {
 /// In steady cornering φ = m·ay·H/(KΦ − m·g·H) (small angles; see
 /// [`chassis_equations`](super::chassis_equations)), so the elastic transfer
 /// is larger than Milliken & Milliken's m·ay·H·KΦᵢ/KΦ by KΦ/(KΦ − m·g·H).
-#[inline]
+#[inline(always)]
 pub fn wheel_loads(c: &Chassis, aero: &Aero, forces: &AeroForces, x: &State) -> [f64; 4] {
     let l = c.wheelbase;
     let x_cp = aero.pressure_centre_to_front_axle;

@@ -5,7 +5,7 @@
 //! blending of regenerative and friction braking (`brakes.rs`), the
 //! differentials, and the power, fuel and energy flows that result.
 
-use super::brakes::blend_brakes;
+use super::brakes::{blend_brakes, per_axle};
 use super::commands::{Commands, Deploy};
 use super::state::{FUEL_USED, STORE_ENERGY, State, WHEEL_SPEED};
 use super::store::{StoreLimits, energy_rate, state_of_charge, store_limits};
@@ -33,44 +33,72 @@ pub struct WheelTorques {
 }
 
 /// Power, fuel and energy quantities of one evaluation. Arrays are per axle
-/// [front, rear] and zero where the axle has no unit of that kind.
+/// [front, rear] and zero where the axle has no unit of that kind. Sums and
+/// shares are methods, so that each quantity is defined once.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct PowertrainOutput {
     /// Torque at each unit's shaft, N·m (negative while generating).
     pub unit_torque: [f64; 2],
     /// Speed of each unit's shaft, ratio × mean wheel speed of its axle, rad/s.
     pub unit_speed: [f64; 2],
-    /// Mechanical power at each unit's shaft T·ω, W (negative while generating).
-    pub unit_power: [f64; 2],
     /// Electrical power at each motor-generator's terminals, W (positive drawn from the store).
     pub electrical_power: [f64; 2],
     /// Fuel mass flow of each engine with a fuel model, kg/s.
     pub fuel_mass_flow: [f64; 2],
-    /// Shaft power of the engines, summed, W.
-    pub engine_power: f64,
-    /// Shaft power of the motor-generators, summed, W.
-    pub motor_mechanical_power: f64,
-    /// Power at the store's terminals (sum of the motor-generators'), W (positive discharging).
-    pub store_terminal_power: f64,
-    /// Fuel mass flow of all engines, kg/s (the derivative of `fuel_used`).
-    pub total_fuel_mass_flow: f64,
-    /// Stored energy, J (the state `store_energy`; 0 without a store).
-    pub store_energy: f64,
-    /// Rate of change of the stored energy, W (its derivative).
-    pub store_energy_rate: f64,
-    /// State of charge, 1 (0 without a store).
-    pub state_of_charge: f64,
-    /// Power the store may give and take now at its terminals, W.
-    pub store_limits: StoreLimits,
     /// Regenerative brake torque at the wheels per axle, N·m (≥ 0, both wheels).
     pub regen_brake_torque: [f64; 2],
     /// Friction brake torque per axle, N·m (both wheels, per-wheel extras included).
     pub friction_brake_torque: [f64; 2],
     /// Braking torque each axle's generator could take now at the wheels, N·m.
     pub available_regen_torque: [f64; 2],
-    /// Front share of the braking force (friction and regeneration, torque over
-    /// rolling radius), 1; the brake bias when nothing brakes.
-    pub braking_front_share: f64,
+    /// State of charge of the store, 1 (0 without a store).
+    pub state_of_charge: f64,
+    /// Rate of change of the stored energy, W (the derivative of `store_energy`).
+    pub store_energy_rate: f64,
+}
+
+impl PowertrainOutput {
+    /// Mechanical power at the shaft of the unit on `axle`, T·ω, W (negative while generating).
+    pub fn unit_power(&self, axle: usize) -> f64 {
+        self.unit_torque[axle] * self.unit_speed[axle]
+    }
+
+    /// Power at the store's terminals (sum over the motor-generators), W (positive discharging).
+    pub fn store_terminal_power(&self) -> f64 {
+        self.electrical_power[FRONT] + self.electrical_power[REAR]
+    }
+
+    /// Fuel mass flow of all engines, kg/s (the derivative of `fuel_used`).
+    pub fn total_fuel_mass_flow(&self) -> f64 {
+        self.fuel_mass_flow[FRONT] + self.fuel_mass_flow[REAR]
+    }
+
+    /// Shaft power of the units of `kind` on `v`, summed, W.
+    pub fn power_of(&self, v: &Vehicle, kind: crate::params::UnitKind) -> f64 {
+        [FRONT, REAR]
+            .into_iter()
+            .filter(|&k| {
+                v.powertrain.units[k]
+                    .as_ref()
+                    .is_some_and(|u| u.kind() == kind)
+            })
+            .map(|k| self.unit_power(k))
+            .sum()
+    }
+
+    /// Front share of the braking force on `v`: Σ(friction + regeneration)/R
+    /// per axle, 1; the brake bias when nothing brakes.
+    pub fn braking_front_share(&self, v: &Vehicle) -> f64 {
+        let force = [FRONT, REAR].map(|k| {
+            (self.friction_brake_torque[k] + self.regen_brake_torque[k]) / v.tyres[k].rolling_radius
+        });
+        let total = force[FRONT] + force[REAR];
+        if total > 0.0 {
+            force[FRONT] / total
+        } else {
+            v.brakes.front_bias
+        }
+    }
 }
 
 /// What each axle's unit can do now, and the store's share for each.
@@ -106,11 +134,6 @@ fn availability(v: &Vehicle, x: &State, c: &Commands, limits: StoreLimits) -> Av
             .filter(|u| motor_generator(u).is_some())
             .map_or(0.0, |u| u.max_power)
     };
-    let rated = rating(FRONT) + rating(REAR);
-    let harvest = c
-        .powertrain
-        .harvest_limit
-        .map_or(f64::INFINITY, |h| h.max(0.0));
     let mut a = Availability::default();
     for (k, unit) in units.iter().enumerate() {
         let Some(u) = unit else { continue };
@@ -123,7 +146,11 @@ fn availability(v: &Vehicle, x: &State, c: &Commands, limits: StoreLimits) -> Av
                 a.drive[k] = to_wheels * engine_available_torque(u, fuel.as_ref(), speed);
             }
             Machine::MotorGenerator(mg) => {
-                a.share[k] = if rated > 0.0 { rating(k) / rated } else { 0.0 };
+                let harvest = c
+                    .powertrain
+                    .harvest_limit
+                    .map_or(f64::INFINITY, |h| h.max(0.0));
+                a.share[k] = u.max_power / (rating(FRONT) + rating(REAR));
                 let discharge = a.share[k] * limits.discharge;
                 let charge = a.share[k] * limits.charge.min(harvest);
                 a.drive[k] = to_wheels * motor_available_torque(u, mg, speed, discharge);
@@ -192,13 +219,13 @@ fn drive_demand(v: &Vehicle, c: &Commands, a: &Availability) -> [f64; 2] {
             }
         }
     }
-    let mut torque = [FRONT, REAR].map(|k| demand[k].clamp(-a.generate[k], a.drive[k]));
+    let mut torque = per_axle(|k| demand[k].clamp(-a.generate[k], a.drive[k]));
     let spare = c
         .powertrain
         .spare_torque_to_other_axle
         .unwrap_or(v.powertrain.spare_torque_to_other_axle);
     if spare && deploy.is_none() {
-        let unmet = [FRONT, REAR].map(|k| (demand[k] - torque[k]).max(0.0));
+        let unmet = per_axle(|k| (demand[k] - torque[k]).max(0.0));
         for (k, other) in [(FRONT, REAR), (REAR, FRONT)] {
             torque[other] = (torque[other] + unmet[k]).min(a.drive[other].max(torque[other]));
         }
@@ -228,19 +255,19 @@ pub fn differential_split(u: &DriveUnit, torque: f64, w_left: f64, w_right: f64)
 /// The powertrain and brakes stage: drive and brake torque at every wheel,
 /// and the power, fuel and energy flows (see the module documentation and
 /// each function for the equations).
-#[inline]
+#[inline(always)]
 pub fn powertrain(v: &Vehicle, x: &State, c: &Commands) -> (WheelTorques, PowertrainOutput) {
     let pt = &v.powertrain;
     let mut out = PowertrainOutput::default();
+    let mut limits = StoreLimits::default();
     if let Some(s) = &pt.store {
-        out.store_energy = x[STORE_ENERGY];
         out.state_of_charge = state_of_charge(s, x[STORE_ENERGY]);
-        out.store_limits = store_limits(s, x[STORE_ENERGY]);
+        limits = store_limits(s, x[STORE_ENERGY]);
     }
-    let a = availability(v, x, c, out.store_limits);
+    let a = availability(v, x, c, limits);
     let drive_torque = drive_demand(v, c, &a);
     // Regenerative capacity left on each axle after its drive command.
-    let capacity = [FRONT, REAR].map(|k| (a.generate[k] + drive_torque[k]).max(0.0));
+    let capacity = per_axle(|k| (a.generate[k] + drive_torque[k]).max(0.0));
     let rule = c.powertrain.blending.unwrap_or(v.brakes.blending);
     let split = blend_brakes(&v.brakes, rule, c.brake_request, capacity);
     let mut wheels = WheelTorques {
@@ -263,57 +290,32 @@ pub fn powertrain(v: &Vehicle, x: &State, c: &Commands) -> (WheelTorques, Powert
     }
     out.regen_brake_torque = split.regen;
     out.available_regen_torque = a.generate;
-    out.friction_brake_torque =
-        [FRONT, REAR].map(|k| wheels.brake[2 * k] + wheels.brake[2 * k + 1]);
-    out.braking_front_share = braking_front_share(v, &out);
+    out.friction_brake_torque = per_axle(|k| wheels.brake[2 * k] + wheels.brake[2 * k + 1]);
     if let Some(s) = &pt.store {
-        out.store_energy_rate = energy_rate(s, out.store_terminal_power);
+        out.store_energy_rate = energy_rate(s, out.store_terminal_power());
     }
     (wheels, out)
 }
 
-/// Shaft torque, power, electrical power and fuel flow of the unit on axle
-/// `k` giving net wheel torque `net` (N·m) at shaft speed `speed` (rad/s).
+/// Shaft torque and speed, electrical power and fuel flow of the unit on
+/// axle `k` giving net wheel torque `net` (N·m) at shaft speed `speed` (rad/s).
 #[inline]
 fn unit_flows(u: &DriveUnit, k: usize, net: f64, speed: f64, out: &mut PowertrainOutput) {
     let torque = shaft_torque(u, net);
-    let power = torque * speed;
     out.unit_torque[k] = torque;
     out.unit_speed[k] = speed;
-    out.unit_power[k] = power;
     match &u.machine {
-        Machine::Engine(fuel) => {
-            out.engine_power += power;
-            if let Some(f) = fuel {
-                out.fuel_mass_flow[k] = fuel_mass_flow(f, speed, torque);
-                out.total_fuel_mass_flow += out.fuel_mass_flow[k];
-            }
-        }
+        Machine::Engine(Some(f)) => out.fuel_mass_flow[k] = fuel_mass_flow(f, speed, torque),
+        Machine::Engine(None) => {}
         Machine::MotorGenerator(mg) => {
-            out.motor_mechanical_power += power;
-            out.electrical_power[k] = electrical_power(mg, speed, torque);
-            out.store_terminal_power += out.electrical_power[k];
+            out.electrical_power[k] = electrical_power(mg, speed, torque)
         }
-    }
-}
-
-/// Front share of the braking force: Σ(friction + regeneration)/R per axle.
-#[inline]
-fn braking_front_share(v: &Vehicle, out: &PowertrainOutput) -> f64 {
-    let force = [FRONT, REAR].map(|k| {
-        (out.friction_brake_torque[k] + out.regen_brake_torque[k]) / v.tyres[k].rolling_radius
-    });
-    let total = force[FRONT] + force[REAR];
-    if total > 0.0 {
-        force[FRONT] / total
-    } else {
-        v.brakes.front_bias
     }
 }
 
 /// Writes the derivatives of fuel used (kg) and stored energy (J) into `d`.
-#[inline]
+#[inline(always)]
 pub fn energy_equations(out: &PowertrainOutput, d: &mut State) {
-    d[FUEL_USED] = out.total_fuel_mass_flow;
+    d[FUEL_USED] = out.total_fuel_mass_flow();
     d[STORE_ENERGY] = out.store_energy_rate;
 }

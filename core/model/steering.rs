@@ -11,7 +11,7 @@ use crate::params::{Chassis, FRONT, REAR, Steering};
 /// tan δ_left = L·tan δ / (L − (t/2)·tan δ), tan δ_right = L·tan δ / (L + (t/2)·tan δ),
 /// blended with parallel steer by the Ackermann fraction. Toe-in turns each
 /// wheel's front towards the car's centre line.
-#[inline]
+#[inline(always)]
 pub fn road_wheel_angles(s: &Steering, c: &Chassis, steer_wheel_angle: f64) -> [f64; 4] {
     let delta = steer_wheel_angle / s.ratio;
     let tan_d = delta.tan();

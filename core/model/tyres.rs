@@ -30,7 +30,7 @@ pub struct ContactPatches {
 /// *Race Car Vehicle Dynamics*, ch. 5). Forces from the Magic Formula with
 /// the relaxed slips κ′, tan α′ of the state ([`crate::tyre`]); the left
 /// wheel's static camber as given, the right wheel's mirrored (tyre axes).
-#[inline]
+#[inline(always)]
 pub fn contact_patches(
     tyres: &[AxleTyre; 2],
     road: &Road,

@@ -14,9 +14,10 @@ use crate::params::{DriveUnit, Efficiency, Fuel, Machine, Map, MotorGenerator};
 /// (`P_shaft = η·P_in`, e.g. fuel power through the thermal efficiency, or
 /// electrical power through a motor's efficiency), N·m.
 ///
-/// With a map, η is linear in T between torque breakpoints at a fixed speed
-/// (bilinear interpolation), so each piece is solved in closed form,
-/// T = P·a/(|ω| − P·s) for η = a + s·T, and the first crossing is taken.
+/// With a map: the cap itself when it satisfies the limit (one lookup, the
+/// usual case); otherwise, since η is linear in T between torque breakpoints
+/// at a fixed speed (bilinear interpolation), each piece is solved in closed
+/// form, T = P·a/(|ω| − P·s) for η = a + s·T, and the first crossing is taken.
 #[inline]
 pub fn torque_from_input_power(eff: &Efficiency, speed: f64, power: f64, cap: f64) -> f64 {
     if power <= 0.0 {
@@ -28,6 +29,7 @@ pub fn torque_from_input_power(eff: &Efficiency, speed: f64, power: f64, cap: f6
     }
     match eff {
         Efficiency::Constant(e) => (power * e / w).min(cap),
+        Efficiency::Map(_) if cap * w <= power * eff.value(w, cap) => cap,
         Efficiency::Map(m) => first_crossing(m, w, cap, |a, s| {
             let denominator = w - power * s;
             (denominator > 0.0).then(|| power * a / denominator)
@@ -39,8 +41,9 @@ pub fn torque_from_input_power(eff: &Efficiency, speed: f64, power: f64, cap: f6
 /// torque whose shaft power, through the efficiency, gives at most `power`
 /// (W) out (a generator feeding the store), N·m.
 ///
-/// Piecewise: |ω|·T·(a + s·T) = P, solved as T = 2P/(a|ω| + √(a²ω² + 4s|ω|P))
-/// (the smaller positive root, written to avoid cancellation).
+/// With a map: the cap when it satisfies the limit; otherwise piecewise,
+/// |ω|·T·(a + s·T) = P, solved as T = 2P/(a|ω| + √(a²ω² + 4s|ω|P)) (the
+/// smaller positive root, written to avoid cancellation).
 #[inline]
 pub fn torque_for_output_power(eff: &Efficiency, speed: f64, power: f64, cap: f64) -> f64 {
     if power <= 0.0 {
@@ -52,6 +55,7 @@ pub fn torque_for_output_power(eff: &Efficiency, speed: f64, power: f64, cap: f6
     }
     match eff {
         Efficiency::Constant(e) => (power / (e * w)).min(cap),
+        Efficiency::Map(_) if cap * w * eff.value(w, cap) <= power => cap,
         Efficiency::Map(m) => first_crossing(m, w, cap, |a, s| {
             let discriminant = a * a * w * w + 4.0 * s * w * power;
             let denominator = a * w + discriminant.max(0.0).sqrt();
@@ -227,5 +231,8 @@ mod tests {
         assert_eq!(torque_from_input_power(&c, 200.0, 1e4, 30.0), 30.0);
         assert_eq!(torque_from_input_power(&c, 0.0, 1e4, 30.0), 30.0);
         assert_eq!(torque_for_output_power(&eff, 0.0, 0.0, 30.0), 0.0);
+        // A cap that meets the limit is returned as it is.
+        assert_eq!(torque_from_input_power(&eff, 700.0, 1.2e5, 30.0), 30.0);
+        assert_eq!(torque_for_output_power(&eff, 700.0, 1.2e5, 30.0), 30.0);
     }
 }

@@ -26,7 +26,7 @@ pub const STANDSTILL_WHEEL_SPEED: f64 = 1.0;
 /// - σκ·κ̇′ = (ω·R − Vcx) − |Vcx|·κ′ and σα·ṫ′ = −Vcy − |Vcx|·t′ with
 ///   t′ = tan α′ (Pacejka, *Tire and Vehicle Dynamics*, ch. 7, first-order
 ///   transient slip; |Vcx| floored at [`LOW_SPEED`]).
-#[inline]
+#[inline(always)]
 pub fn wheel_equations(
     tyres: &[AxleTyre; 2],
     fz: &[f64; 4],
