@@ -60,8 +60,9 @@ pub fn chassis_equations(
         sum_fy += fy_body;
         yaw_moment += px * fy_body - py * fx_body;
     }
-    let ax = (sum_fx + drag_force) / m;
-    let ay = sum_fy / m;
+    let inv_m = 1.0 / m;
+    let ax = (sum_fx + drag_force) * inv_m;
+    let ay = sum_fy * inv_m;
     // Planar body motion and pose.
     let (sin_yaw, cos_yaw) = x[YAW].sin_cos();
     d[X] = vx * cos_yaw - vy * sin_yaw;

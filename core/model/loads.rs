@@ -26,23 +26,24 @@ pub fn static_axle_loads(c: &Chassis) -> [f64; 2] {
 /// is larger than Milliken & Milliken's m·ay·H·KΦᵢ/KΦ by KΦ/(KΦ − m·g·H).
 #[inline(always)]
 pub fn wheel_loads(c: &Chassis, aero: &Aero, forces: &AeroForces, x: &State) -> [f64; 4] {
-    let l = c.wheelbase;
+    // Moments about each axle's contact line, over the wheelbase (one division).
+    let (l, inv_l) = (c.wheelbase, 1.0 / c.wheelbase);
     let x_cp = aero.pressure_centre_to_front_axle;
-    let statics = static_axle_loads(c);
+    let weight = c.mass * GRAVITY;
     let pitch_moment = c.pitch_stiffness * x[PITCH] + c.pitch_damping * x[PITCH_RATE];
-    let drag_transfer = forces.drag_force * aero.drag_height / l;
+    let drag_moment = forces.drag_force * aero.drag_height;
     let axle_load = [
-        statics[FRONT] + forces.downforce * (l - x_cp) / l + drag_transfer + pitch_moment / l,
-        statics[REAR] + forces.downforce * x_cp / l - drag_transfer - pitch_moment / l,
+        (weight * c.b + forces.downforce * (l - x_cp) + drag_moment + pitch_moment) * inv_l,
+        (weight * c.a + forces.downforce * x_cp - drag_moment - pitch_moment) * inv_l,
     ];
     // Lateral transfer per axle (positive moves load to the right wheel).
-    let ay_geo = x[AY_GEOMETRIC];
-    let lateral_share = [c.b / l, c.a / l];
+    let geometric_moment = c.mass * x[AY_GEOMETRIC] * inv_l;
+    let lever = [c.b, c.a];
     let mut fz = [0.0; 4];
     for axle in [FRONT, REAR] {
         // A body rolled right side down (φ > 0, ISO 8855) loads the right wheels.
         let elastic = c.roll_stiffness[axle] * x[ROLL] + c.roll_damping[axle] * x[ROLL_RATE];
-        let geometric = c.mass * ay_geo * lateral_share[axle] * c.roll_centre_height[axle];
+        let geometric = geometric_moment * lever[axle] * c.roll_centre_height[axle];
         let transfer = (elastic + geometric) / c.track[axle];
         fz[2 * axle] = (0.5 * axle_load[axle] - transfer).max(0.0);
         fz[2 * axle + 1] = (0.5 * axle_load[axle] + transfer).max(0.0);
