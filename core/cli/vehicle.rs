@@ -78,41 +78,14 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     }
     if let Some(store) = &s.store {
         println!();
-        let mut t = Table::new(["energy store", "value", "unit"]);
-        t.row(["usable energy", &n(store.usable_energy_j / 3.6e6), "kWh"]);
-        t.row(["initial state of charge", &n(store.initial_soc), "1"]);
-        t.row([
-            "state of charge limits",
-            &format!("{} .. {}", n(store.min_soc), n(store.max_soc)),
-            "1",
-        ]);
-        t.row([
-            "max discharge / charge power",
-            &format!(
-                "{} / {}",
-                n(store.max_discharge_power_w / 1e3),
-                n(store.max_charge_power_w / 1e3)
-            ),
-            "kW",
-        ]);
-        t.row([
-            "deployable from initial state of charge",
-            &n(store.deployable_energy_j / 1e3),
-            "kJ",
-        ]);
-        t.row([
-            "harvestable to full",
-            &n(store.harvestable_energy_j / 1e3),
-            "kJ",
-        ]);
-        print!("{}", t.render());
+        print!("{}", store_table(store).render());
     }
     println!();
     println!(
         "Linear figures follow Gillespie, Fundamentals of Vehicle Dynamics, ch. 6, at static load;"
     );
     println!(
-        "\"power-limited above\" is the speed where the axle's available tractive force falls below mu*Fz;"
+        "\"power-limited above\" is the speed where eta*P/v (with the fuel-flow and store limits) falls below mu*Fz;"
     );
     println!(
         "\"torque limit ends\" is the speed above which power, fuel flow or the store limits the unit."
@@ -173,4 +146,38 @@ fn drive_table(s: &yawdyn::model::linear::VehicleSummary) -> Table {
         ]);
     }
     d
+}
+
+/// The energy store: energy, state-of-charge limits, power limits, and the
+/// energy that can be deployed and harvested from the initial state of charge.
+fn store_table(store: &yawdyn::model::linear::StoreSummary) -> Table {
+    let n = |v: f64| fmt_num(v, 4);
+    let mut t = Table::new(["energy store", "value", "unit"]);
+    t.row(["usable energy", &n(store.usable_energy_j / 3.6e6), "kWh"]);
+    t.row(["initial state of charge", &n(store.initial_soc), "1"]);
+    t.row([
+        "state of charge limits",
+        &format!("{} .. {}", n(store.min_soc), n(store.max_soc)),
+        "1",
+    ]);
+    t.row([
+        "max discharge / charge power",
+        &format!(
+            "{} / {}",
+            n(store.max_discharge_power_w / 1e3),
+            n(store.max_charge_power_w / 1e3)
+        ),
+        "kW",
+    ]);
+    t.row([
+        "deployable from initial state of charge",
+        &n(store.deployable_energy_j / 1e3),
+        "kJ",
+    ]);
+    t.row([
+        "harvestable to full",
+        &n(store.harvestable_energy_j / 1e3),
+        "kJ",
+    ]);
+    t
 }
