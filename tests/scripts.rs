@@ -162,9 +162,12 @@ fn resolved_vehicle_in_file_round_trips_with_overrides() {
     let stored =
         load_vehicle_text(&r.provenance.vehicle_toml, Path::new("stored.toml"), &[]).unwrap();
     assert_eq!(stored.to_toml(), original.to_toml());
-    assert_eq!(stored.front_share, 0.3);
-    assert_eq!(stored.mass, 1900.0);
-    assert_eq!(stored.wheelbase.to_bits(), original.wheelbase.to_bits());
+    assert_eq!(stored.powertrain.front_share, 0.3);
+    assert_eq!(stored.chassis.mass, 1900.0);
+    assert_eq!(
+        stored.chassis.wheelbase.to_bits(),
+        original.chassis.wheelbase.to_bits()
+    );
 }
 
 /// Common practice target from the task: the speed controller holds its
@@ -257,6 +260,7 @@ fn power_on_front_drive_understeers_rear_drive_oversteers() {
             "drive.front_share=0",
             "drive.rear.max_power=300000",
             "drive.rear.max_torque=800",
+            "drive.store.max_discharge_power=400000",
             "manoeuvre.exit_torque=6000",
             "manoeuvre.ramp_time=2.0",
         ],
@@ -291,7 +295,7 @@ fn power_on_front_drive_understeers_rear_drive_oversteers() {
 #[test]
 fn braking_loads_the_front_axle_and_accelerating_the_rear() {
     let v = load_vehicle(&repo_path("scripts/vehicles/hybrid_crossover.toml"), &[]).unwrap();
-    let static_front = v.static_axle_loads()[0];
+    let static_front = yawdyn::model::static_axle_loads(&v.chassis)[0];
     let front_gain = |r: &RunRecord, t0: f64, t1: f64| -> (f64, f64) {
         let fl = window(r, "fz_front_left", t0, t1);
         let fr = window(r, "fz_front_right", t0, t1);
@@ -314,7 +318,7 @@ fn braking_loads_the_front_axle_and_accelerating_the_rear() {
     let (gain, ax) = front_gain(&braking, 2.0, 2.5);
     assert!(ax < -3.0, "deceleration {ax}");
     assert!(gain > 0.0, "front axle load change {gain} N under braking");
-    let expected = -v.mass * ax * v.cg_height / v.wheelbase;
+    let expected = -v.chassis.mass * ax * v.chassis.cg_height / v.chassis.wheelbase;
     assert!(
         (gain - expected).abs() < 0.15 * expected,
         "ΔFz {gain} N vs m·ax·h/L {expected} N"

@@ -33,7 +33,7 @@ fn stderr(o: &Output) -> String {
 
 #[test]
 fn demo_vehicles_validate_and_print_json() {
-    for name in ["hybrid_crossover", "track_car"] {
+    for name in ["hybrid_crossover", "track_car", "sports_prototype"] {
         let o = yawdyn(&["vehicle", &demo(name), "--json"]);
         assert!(o.status.success(), "{name}: {}", stderr(&o));
         let json: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
@@ -174,4 +174,92 @@ fn not_toml_and_missing_file_are_bad_input() {
     let o = yawdyn(&["vehicle", "does/not/exist.toml"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("cannot read vehicle file"));
+}
+
+/// The hybrid demo reports its powertrain: the fuel-flow power cap equals
+/// ṁ_max·LHV·η_b (Heywood, *Internal Combustion Engine Fundamentals*, ch. 2,
+/// from memory), each unit's kind and limits, and the store.
+#[test]
+fn hybrid_powertrain_is_reported() {
+    let o = yawdyn(&["vehicle", &demo("sports_prototype"), "--json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let axles = j["drive_axles"].as_array().unwrap();
+    let engine = axles.iter().find(|a| a["kind"] == "engine").unwrap();
+    let cap = engine["fuel_power_cap_w"].as_f64().unwrap();
+    assert!((cap - 0.0222 * 43.0e6 * 0.40).abs() < 1e-6, "{cap}");
+    assert!(engine["torque_limit_ends_kph"].is_number());
+    let mg = axles
+        .iter()
+        .find(|a| a["kind"] == "motor_generator")
+        .unwrap();
+    assert_eq!(mg["max_generating_power_w"].as_f64(), Some(150000.0));
+    let store = &j["store"];
+    // Deployable energy (SOC0 - SOCmin)·E·η_dis.
+    let deployable = (0.5 - 0.1) * 2.0e6 * 0.97;
+    assert!((store["deployable_energy_j"].as_f64().unwrap() - deployable).abs() < 1e-6);
+    let table = yawdyn(&["vehicle", &demo("sports_prototype")]);
+    let text = String::from_utf8_lossy(&table.stdout).into_owned();
+    for word in ["motor-generator", "fuel-flow cap", "energy store", "381.8"] {
+        assert!(text.contains(word), "{word} missing in:\n{text}");
+    }
+}
+
+/// Bad powertrain values are named by key path and line, all at once.
+#[test]
+fn hybrid_problems_are_located() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = edited(dir.path(), |t| {
+        t.replace("motoring_efficiency = 0.92", "motoring_efficiency = 1.2")
+            .replace("initial_soc = 0.6", "initial_soc = 0.95")
+            .replace(
+                "kind = \"engine\"",
+                "kind = \"engine\"\nmax_generating_torque = 10.0",
+            )
+            .replace("lower_heating_value = 43.0e6", "lower_heating_value = -1.0")
+    });
+    let o = yawdyn(&["vehicle", path.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = stderr(&o);
+    for (key, rule) in [
+        ("drive.rear.motoring_efficiency", "(0, 1]"),
+        ("drive.store.initial_soc", "[0.2, 0.9]"),
+        ("drive.front.max_generating_torque", "motor_generator"),
+        ("drive.front.fuel.lower_heating_value", "positive"),
+    ] {
+        assert!(
+            e.contains(key) && e.contains(rule),
+            "{key} ({rule}) not in:\n{e}"
+        );
+    }
+    assert!(e.contains("4 problem(s)"), "{e}");
+    assert!(e.contains("line "), "{e}");
+    // A motor-generator without a store, and a map whose speeds do not rise.
+    let path = edited(dir.path(), |t| {
+        let cut = t.find("[drive.store]").unwrap();
+        let end = t.find("[brakes]").unwrap();
+        format!("{}{}", &t[..cut], &t[end..])
+    });
+    let e = stderr(&yawdyn(&["vehicle", path.to_str().unwrap()]));
+    assert!(
+        e.contains("drive.rear.kind") && e.contains("[drive.store]"),
+        "{e}"
+    );
+    let text = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join(demo("sports_prototype")),
+    )
+    .unwrap()
+    .replacen(
+        "speed_rpm = [0.0, 4000.0, 8000.0",
+        "speed_rpm = [0.0, 8000.0, 4000.0",
+        1,
+    );
+    let bad = dir.path().join("proto.toml");
+    std::fs::write(&bad, text).unwrap();
+    let e = stderr(&yawdyn(&["vehicle", bad.to_str().unwrap()]));
+    assert!(
+        e.contains("drive.front.motoring_efficiency_table.speed_rpm")
+            && e.contains("strictly increasing"),
+        "{e}"
+    );
 }

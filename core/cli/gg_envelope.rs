@@ -58,7 +58,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let overrides = parse_overrides(&args.sets)?;
     let vehicle = load_vehicle(&args.vehicle, &overrides)?;
     let speeds = parse_values("speed-kph", &args.speed_kph)?;
-    let share = args.front_share.unwrap_or(vehicle.front_share);
+    let share = args.front_share.unwrap_or(vehicle.powertrain.front_share);
     let settings = EnvelopeSettings {
         directions: args.directions,
         ..EnvelopeSettings::default()

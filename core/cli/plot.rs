@@ -369,7 +369,7 @@ fn friction_usage(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result
     // Reference circle at the road friction of the stored vehicle, if any.
     let mu = stored_vehicle(record)
         .ok()
-        .map(|v| v.road_friction)
+        .map(|v| v.road.friction)
         .filter(|m| m.is_finite() && *m > 0.0);
     gg(out, title, &ax, &ay, mu)?;
     Ok(())

@@ -169,7 +169,7 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
         speed: speed_kph / 3.6,
         lat_accel: lat_accel_g * GRAVITY,
         long_accel: point.long_accel_g * GRAVITY,
-        front_share: point.front_share.unwrap_or(vehicle.front_share),
+        front_share: point.front_share.unwrap_or(vehicle.powertrain.front_share),
     };
     target
         .validate(&vehicle)
@@ -302,6 +302,9 @@ fn report_json(v: &Vehicle, r: &StabilityReport) -> Value {
             "pitch_deg": t.state[yawdyn::model::PITCH].to_degrees(),
             "total_drive_torque_nm": t.total_torque,
             "axle_drive_torque_nm": e.axle_drive_torque,
+            "axle_brake_torque_nm": e.powertrain.friction_brake_torque,
+            "axle_regen_brake_torque_nm": e.powertrain.regen_brake_torque,
+            "braking_front_share": e.powertrain.braking_front_share(v),
             "understeer_gradient_deg_per_g": r.understeer_gradient_deg_per_g(),
             "residual": t.residual,
             "wheels": wheels,
@@ -351,13 +354,34 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
     tab.row(["yaw rate", &deg(yaw_rate), "deg/s"]);
     tab.row(["roll", &deg(t.state[yawdyn::model::ROLL]), "deg"]);
     tab.row(["pitch", &deg(t.state[yawdyn::model::PITCH]), "deg"]);
-    tab.row(["drive torque, total", &n(t.total_torque), "N*m"]);
+    tab.row([
+        "wheel torque, total (negative = brakes)",
+        &n(t.total_torque),
+        "N*m",
+    ]);
     tab.row([
         "drive torque, front axle",
         &n(e.axle_drive_torque[0]),
         "N*m",
     ]);
     tab.row(["drive torque, rear axle", &n(e.axle_drive_torque[1]), "N*m"]);
+    let (brake, regen) = (
+        e.powertrain.friction_brake_torque,
+        e.powertrain.regen_brake_torque,
+    );
+    if brake.iter().chain(&regen).any(|b| *b != 0.0) {
+        tab.row(["friction brake torque, front axle", &n(brake[0]), "N*m"]);
+        tab.row(["friction brake torque, rear axle", &n(brake[1]), "N*m"]);
+        if regen.iter().any(|b| *b != 0.0) {
+            tab.row(["regenerative brake torque, front axle", &n(regen[0]), "N*m"]);
+            tab.row(["regenerative brake torque, rear axle", &n(regen[1]), "N*m"]);
+        }
+        tab.row([
+            "front share of braking force",
+            &n(e.powertrain.braking_front_share(v)),
+            "1",
+        ]);
+    }
     tab.row([
         "understeer gradient (local)",
         &r.understeer_gradient_deg_per_g()

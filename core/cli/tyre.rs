@@ -64,10 +64,13 @@ fn axle_setup(v: &Vehicle, axle: usize) -> (TyreSetup, f64) {
     let setup = TyreSetup {
         model: t.model,
         camber: t.camber,
-        friction: v.road_friction,
+        friction: v.road.friction,
         method: t.combined_slip,
     };
-    (setup, 0.5 * v.static_axle_loads()[axle])
+    (
+        setup,
+        0.5 * yawdyn::model::static_axle_loads(&v.chassis)[axle],
+    )
 }
 
 fn axle_name(axle: usize) -> &'static str {

@@ -5,7 +5,7 @@ use std::path::PathBuf;
 
 use yawdyn::assets::resolve_vehicle;
 use yawdyn::model::linear::summarize;
-use yawdyn::params::load_vehicle;
+use yawdyn::params::{UnitKind, load_vehicle};
 use yawdyn::table::{Table, fmt_num};
 
 use super::{Outcome, parse_overrides};
@@ -76,32 +76,110 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     print!("{}", t.render());
     if !s.drive_axles.is_empty() {
         println!();
-        let mut d = Table::new([
-            "drive axle",
-            "unit",
-            "max wheel torque [N*m]",
-            "max tractive force [N]",
-            "grip mu*Fz [N]",
-            "power-limited above [km/h]",
-            "torque limit ends [km/h]",
-        ]);
-        for a in &s.drive_axles {
-            d.row([
-                a.axle.clone(),
-                a.label.clone(),
-                n(a.max_wheel_torque_nm),
-                n(a.max_tractive_force_n),
-                n(a.grip_force_n),
-                n(a.power_limited_above_kph),
-                n(a.torque_limit_ends_kph),
-            ]);
-        }
-        print!("{}", d.render());
+        print!("{}", drive_table(&s).render());
+    }
+    if let Some(store) = &s.store {
+        println!();
+        print!("{}", store_table(store).render());
     }
     println!();
     println!(
         "Linear figures follow Gillespie, Fundamentals of Vehicle Dynamics, ch. 6, at static load;"
     );
-    println!("\"power-limited above\" is the speed where eta*P/v falls below mu*Fz of the axle.");
+    println!(
+        "\"power-limited above\" is the speed where eta*P/v (with the fuel-flow and store limits) falls below mu*Fz;"
+    );
+    println!(
+        "\"torque limit ends\" is the speed above which power, fuel flow or the store limits the unit."
+    );
+    if s.drive_axles.len() == 2 {
+        println!(
+            "Spare torque of one axle goes to the other: {} (drive.spare_torque_to_other_axle).",
+            if s.spare_torque_to_other_axle {
+                "yes"
+            } else {
+                "no"
+            }
+        );
+    }
     Ok(Outcome::Success)
+}
+
+/// One row per drive unit: kind, limits, fuel-flow power cap, and the speeds
+/// where its axle becomes power-limited.
+fn drive_table(s: &yawdyn::model::linear::VehicleSummary) -> Table {
+    let n = |v: f64| fmt_num(v, 4);
+    let opt = |v: Option<f64>| v.map_or_else(|| "-".to_string(), n);
+    let kw = |v: Option<f64>| opt(v.map(|p| p / 1e3));
+    let mut d = Table::new([
+        "drive axle",
+        "unit",
+        "kind",
+        "max torque [N*m]",
+        "max power [kW]",
+        "fuel-flow cap [kW]",
+        "generating [N*m / kW]",
+        "max wheel torque [N*m]",
+        "grip mu*Fz [N]",
+        "torque limit ends [km/h]",
+        "power-limited above [km/h]",
+    ]);
+    for a in &s.drive_axles {
+        let kind = match a.kind {
+            UnitKind::Engine => "engine",
+            UnitKind::MotorGenerator => "motor-generator",
+        };
+        let generating = match (a.max_generating_torque_nm, a.max_generating_power_w) {
+            (Some(t), Some(p)) => format!("{} / {}", n(t), n(p / 1e3)),
+            _ => "-".to_string(),
+        };
+        d.row([
+            a.axle.clone(),
+            a.label.clone(),
+            kind.to_string(),
+            n(a.max_shaft_torque_nm),
+            n(a.max_power_w / 1e3),
+            kw(a.fuel_power_cap_w),
+            generating,
+            n(a.max_wheel_torque_nm),
+            n(a.grip_force_n),
+            opt(a.torque_limit_ends_kph),
+            opt(a.power_limited_above_kph),
+        ]);
+    }
+    d
+}
+
+/// The energy store: energy, state-of-charge limits, power limits, and the
+/// energy that can be deployed and harvested from the initial state of charge.
+fn store_table(store: &yawdyn::model::linear::StoreSummary) -> Table {
+    let n = |v: f64| fmt_num(v, 4);
+    let mut t = Table::new(["energy store", "value", "unit"]);
+    t.row(["usable energy", &n(store.usable_energy_j / 3.6e6), "kWh"]);
+    t.row(["initial state of charge", &n(store.initial_soc), "1"]);
+    t.row([
+        "state of charge limits",
+        &format!("{} .. {}", n(store.min_soc), n(store.max_soc)),
+        "1",
+    ]);
+    t.row([
+        "max discharge / charge power",
+        &format!(
+            "{} / {}",
+            n(store.max_discharge_power_w / 1e3),
+            n(store.max_charge_power_w / 1e3)
+        ),
+        "kW",
+    ]);
+    t.row([
+        "deployable from initial state of charge",
+        &n(store.deployable_energy_j / 1e3),
+        "kJ",
+    ]);
+    t.row([
+        "harvestable to full",
+        &n(store.harvestable_energy_j / 1e3),
+        "kJ",
+    ]);
+    t
 }

@@ -74,7 +74,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let steer = deg("steer-deg", &args.steer_deg)?;
     let shares = match &args.front_share {
         Some(text) => parse_values("front-share", text)?,
-        None => vec![vehicle.front_share],
+        None => vec![vehicle.powertrain.front_share],
     };
     let longitudinal = match (args.long_accel_g, args.drive_torque) {
         (Some(a), _) => Longitudinal::Accel(a * GRAVITY),

@@ -1,9 +1,14 @@
 //! The state vector of the two-track model: layout, names and units.
+//!
+//! [`STATE_NAMES`] is the one list of names and units; every index constant
+//! below points into it. The last two states are energy integrators (fuel
+//! used, stored energy): nothing in the vehicle's motion depends on fuel used,
+//! and the stored energy only through the store's limits.
 
 use nalgebra::SVector;
 
 /// Number of states.
-pub const N_STATES: usize = 23;
+pub const N_STATES: usize = 25;
 
 /// The state vector (static size, no allocation).
 pub type State = SVector<f64, N_STATES>;
@@ -36,6 +41,10 @@ pub const SLIP_ANGLE: usize = 14;
 pub const SLIP_RATIO: usize = 18;
 /// Lateral acceleration seen by the roll-centre (geometric) load transfer, m/s².
 pub const AY_GEOMETRIC: usize = 22;
+/// Fuel burnt since the start, kg (the integral of the engines' fuel mass flow).
+pub const FUEL_USED: usize = 23;
+/// Energy in the store, J (the integral of its energy rate; 0 without a store).
+pub const STORE_ENERGY: usize = 24;
 
 /// Wheel position names, in the order used by every per-wheel array.
 pub const WHEEL_NAMES: [&str; 4] = ["front_left", "front_right", "rear_left", "rear_right"];
@@ -65,4 +74,6 @@ pub const STATE_NAMES: [(&str, &str); N_STATES] = [
     ("slip_ratio_state_rear_left", "1"),
     ("slip_ratio_state_rear_right", "1"),
     ("ay_geometric", "m/s^2"),
+    ("fuel_used", "kg"),
+    ("store_energy", "J"),
 ];

@@ -9,9 +9,8 @@
 
 use std::path::Path;
 
-use super::file::VehicleFile;
 use super::issue::{ParamError, ParamIssue};
-use super::vehicle::Vehicle;
+use super::vehicle::{Vehicle, VehicleFile};
 
 /// Pseudo file name used for problems in `--set` overrides.
 pub const OVERRIDE_SOURCE: &str = "<--set>";

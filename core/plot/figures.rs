@@ -229,8 +229,8 @@ fn stored_radius(record: &RunRecord) -> Option<f64> {
 /// [`HandlingMethod`].
 pub fn handling_data(record: &RunRecord, lat_accel_max: f64) -> Result<HandlingData, FigureError> {
     let vehicle = stored_vehicle(record)?;
-    let ratio = vehicle.steering_ratio;
-    let wheelbase = vehicle.wheelbase;
+    let ratio = vehicle.steering.ratio;
+    let wheelbase = vehicle.chassis.wheelbase;
     let sw = channel_data(record, "steer_wheel_angle")?;
     let ay = channel_data(record, "ay")?;
     let g = STANDARD_GRAVITY;
@@ -404,7 +404,7 @@ mod tests {
             "/scripts/vehicles/hybrid_crossover.toml"
         );
         let vehicle = crate::params::load_vehicle(Path::new(path), &[]).unwrap();
-        let (l, ratio, v) = (vehicle.wheelbase, vehicle.steering_ratio, 20.0);
+        let (l, ratio, v) = (vehicle.chassis.wheelbase, vehicle.steering.ratio, 20.0);
         let ay: Vec<f64> = (0..=60).map(|i| i as f64 * 0.1).collect();
         let curvature: Vec<f64> = ay
             .iter()
@@ -469,7 +469,7 @@ mod tests {
         assert_eq!(d.method, HandlingMethod::ConstantRadius { radius_m: 50.0 });
         assert!((d.fit.gradient_deg_per_g - k.to_degrees() * STANDARD_GRAVITY).abs() < 1e-9);
         // Intercept = Ackermann angle L/R.
-        let ackermann = (vehicle.wheelbase / 50.0).to_degrees();
+        let ackermann = (vehicle.chassis.wheelbase / 50.0).to_degrees();
         assert!((d.fit.intercept_deg - ackermann).abs() < 1e-9);
     }
 

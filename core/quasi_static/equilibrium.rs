@@ -355,8 +355,9 @@ impl<'a> Problem<'a> {
 
     /// Model state and commands of unknowns `z` (no allocation).
     fn state_and_commands(&self, z: &DVector<f64>) -> (State, Commands) {
-        let mut x = State::zeros();
-        x[VX] = self.condition.speed;
+        // Straight running gives the states that are not unknowns here, e.g.
+        // the energy store at its initial state of charge.
+        let mut x = straight_running(self.vehicle, self.condition.speed);
         for (k, &i) in BODY_UNKNOWNS.iter().enumerate() {
             x[i] = z[k];
         }

@@ -70,13 +70,16 @@ impl Chassis {
 /// Reads the [`Chassis`] quantities of a vehicle.
 pub fn chassis(v: &Vehicle) -> Chassis {
     Chassis {
-        mass: v.mass,
-        wheelbase: v.wheelbase,
-        yaw_inertia: v.yaw_inertia,
-        steering_ratio: v.steering_ratio,
-        front_share: v.front_share,
-        brake_max_torque: v.brake_max_torque,
-        driven: [v.drive[FRONT].is_some(), v.drive[REAR].is_some()],
+        mass: v.chassis.mass,
+        wheelbase: v.chassis.wheelbase,
+        yaw_inertia: v.chassis.yaw_inertia,
+        steering_ratio: v.steering.ratio,
+        front_share: v.powertrain.front_share,
+        brake_max_torque: v.brakes.max_torque,
+        driven: [
+            v.powertrain.units[FRONT].is_some(),
+            v.powertrain.units[REAR].is_some(),
+        ],
     }
 }
 

@@ -40,7 +40,7 @@ fn degrees(count: i32, step_deg: f64) -> Vec<f64> {
 fn condition(v: &Vehicle, kph: f64, longitudinal: Longitudinal) -> Condition {
     Condition {
         speed: kph / 3.6,
-        front_share: v.front_share,
+        front_share: v.powertrain.front_share,
         longitudinal,
     }
 }
@@ -84,7 +84,7 @@ fn linear_range_matches_single_track_derivatives() {
     )
     .unwrap();
     let [cf, cr] = axle_cornering_stiffness(&v);
-    let (m, a, b) = (v.mass, v.a, v.b);
+    let (m, a, b) = (v.chassis.mass, v.chassis.a, v.chassis.b);
     let v2 = (speed_kph / 3.6_f64).powi(2);
     let dd = m + (a * cf - b * cr) / v2;
     let inertia = a * a * cf + b * b * cr;
@@ -140,7 +140,7 @@ fn trim_line_follows_understeer_gradient() {
     let linear: Vec<&TrimPoint> = d.trim.iter().filter(|t| t.steer > 0.0).collect();
     assert_eq!(linear.len(), 5, "one trim per positive steer row");
     for t in linear {
-        let want = (v.wheelbase / (speed * speed) + k) * t.lat_accel;
+        let want = (v.chassis.wheelbase / (speed * speed) + k) * t.lat_accel;
         assert!(
             (t.steer / want - 1.0).abs() < 0.01,
             "a_y {}: steer {} vs L/R + K*a_y = {}",
@@ -276,7 +276,13 @@ fn at_direction(e: &Envelope, deg: f64) -> &EnvelopePoint {
 fn envelope_lateral_extreme_is_the_largest_trim() {
     let v = vehicle(CROSSOVER, &[]);
     let speed = 50.0 / 3.6;
-    let e = envelope_at_speed(&v, speed, v.front_share, &EnvelopeSettings::default()).unwrap();
+    let e = envelope_at_speed(
+        &v,
+        speed,
+        v.powertrain.front_share,
+        &EnvelopeSettings::default(),
+    )
+    .unwrap();
     let largest = stability_limit(&v, speed);
     for (deg, sign) in [(90.0, 1.0), (270.0, -1.0)] {
         let p = at_direction(&e, deg);
@@ -314,9 +320,20 @@ const TRACTION: &[&str] = &[
 #[test]
 fn envelope_longitudinal_extremes_match_traction_limits() {
     let v = vehicle(TRACK_CAR, TRACTION);
-    let e = envelope_at_speed(&v, 30.0 / 3.6, v.front_share, &EnvelopeSettings::default()).unwrap();
-    let (l, h, a, b) = (v.wheelbase, v.cg_height, v.a, v.b);
-    let mu = |axle: usize| v.tyres[axle].model.peak_friction(3000.0, v.road_friction).0;
+    let e = envelope_at_speed(
+        &v,
+        30.0 / 3.6,
+        v.powertrain.front_share,
+        &EnvelopeSettings::default(),
+    )
+    .unwrap();
+    let (l, h, a, b) = (
+        v.chassis.wheelbase,
+        v.chassis.cg_height,
+        v.chassis.a,
+        v.chassis.b,
+    );
+    let mu = |axle: usize| v.tyres[axle].model.peak_friction(3000.0, v.road.friction).0;
     let (mu_f, mu_r) = (mu(0), mu(1));
     let accel = mu_r * (a / l) / (1.0 - mu_r * h / l) * GRAVITY;
     let p = at_direction(&e, 0.0);
@@ -326,7 +343,7 @@ fn envelope_longitudinal_extremes_match_traction_limits() {
         "{} vs {accel}",
         p.long_accel
     );
-    let torque_share = v.brake_front_bias;
+    let torque_share = v.brakes.front_bias;
     let (rf, rr) = (v.tyres[0].rolling_radius, v.tyres[1].rolling_radius);
     let phi = (torque_share / rf) / (torque_share / rf + (1.0 - torque_share) / rr);
     let front_locks = mu_f * (b / l) / (phi - mu_f * h / l);
@@ -355,7 +372,7 @@ fn downforce_grows_the_envelope_with_speed() {
     };
     let growth = |v: &Vehicle| {
         let reach = |kph: f64| {
-            let e = envelope_at_speed(v, kph / 3.6, v.front_share, &settings).unwrap();
+            let e = envelope_at_speed(v, kph / 3.6, v.powertrain.front_share, &settings).unwrap();
             (
                 at_direction(&e, 90.0).lat_accel,
                 -at_direction(&e, 180.0).long_accel,
@@ -414,7 +431,7 @@ fn files_carry_format_and_shapes() {
     };
     let envelopes: Vec<Envelope> = [40.0, 80.0]
         .iter()
-        .map(|kph| envelope_at_speed(&v, kph / 3.6, v.front_share, &settings).unwrap())
+        .map(|kph| envelope_at_speed(&v, kph / 3.6, v.powertrain.front_share, &settings).unwrap())
         .collect();
     let path = dir.path().join("gg.h5");
     write_envelope(&path, &envelopes, &info).unwrap();

@@ -413,7 +413,7 @@ mod tests {
         s.sample_rate(200.0).unwrap();
         let c = s.config().unwrap();
         assert_eq!(c.sample_rate_hz, 200.0);
-        assert_eq!(c.vehicle.mass, 1900.0);
+        assert_eq!(c.vehicle.chassis.mass, 1900.0);
         assert_eq!(
             c.vehicle_path,
             Path::new("scripts/vehicles/hybrid_crossover.toml")

@@ -199,7 +199,19 @@ fn commands_hash(c: &Commands) -> u64 {
     for v in c.wheel_torque.iter().chain(&c.wheel_brake) {
         h = mix(h, *v);
     }
-    h
+    let p = &c.powertrain;
+    h = match p.deploy {
+        Some(crate::model::Deploy::Power(w)) => mix(mix(h, 1.0), w),
+        Some(crate::model::Deploy::Torque(t)) => mix(mix(h, 2.0), t),
+        None => mix(h, 0.0),
+    };
+    h = mix(h, p.blending.map_or(-1.0, |b| b as u8 as f64));
+    h = mix(h, p.harvest_limit.map_or(-1.0, |w| w));
+    mix(
+        h,
+        p.spare_torque_to_other_axle
+            .map_or(-1.0, |b| f64::from(u8::from(b))),
+    )
 }
 
 /// Why a run stopped early.

@@ -10,7 +10,10 @@ use crate::model::{
 use crate::params::Vehicle;
 
 /// States of the linear model, in matrix order: every state but the cyclic
-/// X, Y and YAW (the model's derivatives do not depend on them).
+/// X, Y and YAW (the model's derivatives do not depend on them) and the
+/// energy integrators `FUEL_USED` and `STORE_ENERGY` (pure integrators of
+/// power flows: they take no part in the handling modes, and the stored
+/// energy is held at its trim value as a parameter).
 pub const LINEAR_STATES: [usize; 20] = [
     VX,
     VY,

@@ -15,7 +15,7 @@ pub mod trim;
 use nalgebra::Complex;
 use serde::Serialize;
 
-use crate::model::{VX, VY, YAW_RATE};
+use crate::model::{VX, YAW_RATE};
 use crate::params::Vehicle;
 
 pub use linear::{
@@ -78,7 +78,7 @@ fn no_trim_message(requested: f64, ax: f64, largest: Option<f64>) -> String {
             l / g
         ),
         None => format!(
-            "no steady state even at zero lateral acceleration with ax {:.3} g (drive torque or power insufficient, or beyond the grip)",
+            "no steady state even at zero lateral acceleration with ax {:.3} g (drive torque or power, or brake capacity, insufficient; or beyond the grip)",
             ax / g
         ),
     }
@@ -335,10 +335,10 @@ fn understeer_gradient(vehicle: &Vehicle, trim: &Trim, settings: &TrimSettings) 
         (None, None) => return None,
     };
     let v = trim.state[VX];
-    Some(slope - vehicle.wheelbase / (v * v))
+    Some(slope - vehicle.chassis.wheelbase / (v * v))
 }
 
 /// Convenience: yaw rate and sideslip of a trim, (rad/s, rad).
 pub fn yaw_rate_and_sideslip(trim: &Trim) -> (f64, f64) {
-    (trim.state[YAW_RATE], trim.state[VY].atan2(trim.state[VX]))
+    (trim.state[YAW_RATE], trim.sideslip())
 }

@@ -34,13 +34,13 @@ pub const MIN_STEP_FRACTION: f64 = 1.0 / 1024.0;
 /// lateral acceleration by its time constant over g.
 pub fn derivative_scale(vehicle: &Vehicle, state: usize, speed: f64) -> f64 {
     let g = GRAVITY;
-    let mg = vehicle.mass * g;
+    let mg = vehicle.chassis.mass * g;
     match state {
         VX | VY => 1.0 / g,
-        YAW_RATE => vehicle.yaw_inertia / (mg * vehicle.wheelbase),
+        YAW_RATE => vehicle.chassis.yaw_inertia / (mg * vehicle.chassis.wheelbase),
         ROLL | PITCH => 1.0,
-        ROLL_RATE => vehicle.roll_inertia / (mg * vehicle.cg_height),
-        PITCH_RATE => vehicle.pitch_inertia / (mg * vehicle.cg_height),
+        ROLL_RATE => vehicle.chassis.roll_inertia / (mg * vehicle.chassis.cg_height),
+        PITCH_RATE => vehicle.chassis.pitch_inertia / (mg * vehicle.chassis.cg_height),
         AY_GEOMETRIC => AY_GEOMETRIC_TIME_CONSTANT / g,
         _ if state >= SLIP_RATIO => {
             vehicle.tyres[(state - SLIP_RATIO) / 2].relaxation_longitudinal / speed

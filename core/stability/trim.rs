@@ -2,9 +2,10 @@
 //! holds a constant speed, lateral acceleration and (optionally) longitudinal
 //! acceleration.
 //!
-//! Unknowns (21): steering-wheel angle, total axle drive torque T (sent as
-//! `Commands::axle_torque = [S·T, (1 − S)·T]`, so T < 0 brakes through the
-//! drive units), and the 19 states vy, yaw rate, roll, roll rate, pitch, pitch
+//! Unknowns (21): steering-wheel angle, total longitudinal wheel torque T
+//! (T ≥ 0 drives: `Commands::axle_torque = [S·T, (1 − S)·T]`; T < 0 brakes:
+//! a brake request of −T over the brake capacity, shared by the brakes'
+//! own rule — bias and, on a hybrid, regenerative blending), and the 19 states vy, yaw rate, roll, roll rate, pitch, pitch
 //! rate, four wheel speeds, eight slip states and ay_geometric. vx = V is
 //! fixed. Equations (21): the derivatives of those 19 states are zero,
 //! v̇x = ax_target (zero for true steady cornering), and the model's
@@ -23,7 +24,7 @@ use nalgebra::DVector;
 use super::StabilityError;
 use super::linear::LINEAR_STATES;
 use super::solve::{self, derivative_scale, typical_unknown};
-use crate::model::{Commands, State, VX, VY, evaluate, straight_running};
+use crate::model::{Commands, State, VX, evaluate, straight_running};
 use crate::params::{FRONT, GRAVITY, REAR, Vehicle};
 
 /// States solved for in the trim: the linearised states except VX (the speed
@@ -53,7 +54,7 @@ impl TrimTarget {
             speed,
             lat_accel,
             long_accel: 0.0,
-            front_share: vehicle.front_share,
+            front_share: vehicle.powertrain.front_share,
         }
     }
 
@@ -78,8 +79,10 @@ impl TrimTarget {
         if !(0.0..=1.0).contains(&self.front_share) {
             return bad("front_share", self.front_share, "between 0 and 1");
         }
-        let reach = self.front_share * f64::from(u8::from(vehicle.drive[FRONT].is_some()))
-            + (1.0 - self.front_share) * f64::from(u8::from(vehicle.drive[REAR].is_some()));
+        let reach = self.front_share
+            * f64::from(u8::from(vehicle.powertrain.units[FRONT].is_some()))
+            + (1.0 - self.front_share)
+                * f64::from(u8::from(vehicle.powertrain.units[REAR].is_some()));
         if reach <= 0.0 {
             return Err(StabilityError::NoDrive {
                 front_share: self.front_share,
@@ -123,7 +126,8 @@ pub struct Trim {
     pub state: State,
     /// Commands at the trim (steering-wheel angle and axle torques set).
     pub commands: Commands,
-    /// Total axle drive torque at the wheels T, N·m (negative = braking through the drive units).
+    /// Total longitudinal torque at the wheels T, N·m: drive torque when
+    /// positive, brake torque −T from the brake request when negative.
     pub total_torque: f64,
     /// Largest scaled residual at the solution, 1.
     pub residual: f64,
@@ -138,11 +142,11 @@ impl Trim {
     }
     /// Mean road-wheel angle δ_sw/ratio, rad.
     pub fn road_wheel_angle(&self, vehicle: &Vehicle) -> f64 {
-        self.commands.steer_wheel_angle / vehicle.steering_ratio
+        self.commands.steer_wheel_angle / vehicle.steering.ratio
     }
     /// Sideslip angle at the CG, atan(vy/vx), rad.
     pub fn sideslip(&self) -> f64 {
-        self.state[VY].atan2(self.state[VX])
+        crate::model::sideslip(&self.state)
     }
     /// Path radius V²/ay, m (infinite when ay = 0).
     pub fn radius(&self) -> f64 {
@@ -151,18 +155,30 @@ impl Trim {
     }
 }
 
-/// Commands for unknown vector `z` (z[0] steering-wheel angle, z[1] total torque).
+/// Commands for unknown vector `z` (z[0] steering-wheel angle, z[1] total
+/// torque: drive torque split by the front share when positive, a brake
+/// request when negative).
 fn commands_for(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> Commands {
     let mut c = Commands::neutral(vehicle);
     c.steer_wheel_angle = z[0];
     c.front_share = target.front_share;
-    c.axle_torque = Some([target.front_share * z[1], (1.0 - target.front_share) * z[1]]);
+    let drive = z[1].max(0.0);
+    c.axle_torque = Some([
+        target.front_share * drive,
+        (1.0 - target.front_share) * drive,
+    ]);
+    let capacity = vehicle.brakes.max_torque;
+    if z[1] < 0.0 && capacity > 0.0 {
+        c.brake_request = -z[1] / capacity;
+    }
     c
 }
 
-fn state_for(target: &TrimTarget, z: &DVector<f64>) -> State {
-    let mut x = State::zeros();
-    x[VX] = target.speed;
+/// The state for unknown vector `z`: straight running at the target speed
+/// (fuel used zero, store at its initial state of charge) with the trim
+/// states taken from `z`.
+fn state_for(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> State {
+    let mut x = straight_running(vehicle, target.speed);
     for (k, &i) in TRIM_STATES.iter().enumerate() {
         x[i] = z[2 + k];
     }
@@ -175,7 +191,7 @@ fn state_for(target: &TrimTarget, z: &DVector<f64>) -> State {
 /// make it a force, moment or speed, then divided by a reference force m·g
 /// (moment m·g·L or m·g·h, speed V) so that the line search weighs them alike.
 pub fn trim_residual(vehicle: &Vehicle, target: &TrimTarget, z: &DVector<f64>) -> DVector<f64> {
-    let x = state_for(target, z);
+    let x = state_for(vehicle, target, z);
     let c = commands_for(vehicle, target, z);
     let e = evaluate(vehicle, &x, &c);
     let d = &e.derivative;
@@ -227,9 +243,10 @@ fn initial_guess(vehicle: &Vehicle, target: &TrimTarget) -> DVector<f64> {
     // Torque to overcome drag and rolling resistance and give the requested
     // acceleration (a first guess only).
     let radius = 0.5 * (vehicle.tyres[FRONT].rolling_radius + vehicle.tyres[REAR].rolling_radius);
-    let drag = 0.5 * vehicle.air_density * vehicle.drag_area * target.speed * target.speed;
-    let rolling = vehicle.tyres[FRONT].rolling_resistance * vehicle.mass * GRAVITY;
-    z[1] = (vehicle.mass * target.long_accel + drag + rolling) * radius;
+    let drag =
+        0.5 * vehicle.aero.air_density * vehicle.aero.drag_area * target.speed * target.speed;
+    let rolling = vehicle.tyres[FRONT].rolling_resistance * vehicle.chassis.mass * GRAVITY;
+    z[1] = (vehicle.chassis.mass * target.long_accel + drag + rolling) * radius;
     z
 }
 
@@ -304,7 +321,7 @@ pub fn find_trim(
     }
     Ok(Trim {
         target: *target,
-        state: state_for(target, &z),
+        state: state_for(vehicle, target, &z),
         commands: commands_for(vehicle, target, &z),
         total_torque: z[1],
         residual,
@@ -333,7 +350,7 @@ pub fn retrim(
     let (z, residual) = newton(vehicle, &target, &z, settings)?;
     Some(Trim {
         target,
-        state: state_for(&target, &z),
+        state: state_for(vehicle, &target, &z),
         commands: commands_for(vehicle, &target, &z),
         total_torque: z[1],
         residual,

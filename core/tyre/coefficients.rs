@@ -8,8 +8,6 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::params::ParamIssue;
-
 /// Magic Formula 5.2 coefficients of one tyre (the `magic_formula` table).
 ///
 /// Sign convention: a positive slip angle α gives a positive (leftward,
@@ -30,9 +28,7 @@ use crate::params::ParamIssue;
 ///     "nominal_load_n = 4500.0\npCx1 = 1.6\npDx1 = 1.0\npKx1 = 20.0\n\
 ///      pCy1 = 1.3\npDy1 = 0.95\npKy1 = 17.0\npKy2 = 1.8\n",
 /// ).unwrap();
-/// let mut issues = Vec::new();
-/// mf.check("tyre.front.magic_formula", &mut issues);
-/// assert!(issues.is_empty());
+/// assert!(mf.check().is_empty());
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -285,8 +281,8 @@ impl MagicFormulaCoefficients {
         ]
     }
 
-    /// Push one [`ParamIssue`] per physically impossible value, keyed
-    /// `"{path}.<key>"` (e.g. `tyre.front.magic_formula.pCx1`).
+    /// One [`CoefficientIssue`] per physically impossible value, named by its
+    /// coefficient key (e.g. `pCx1`); the caller places it in the file.
     ///
     /// Rules (the Magic Formula identities are from Pacejka, *Tire and Vehicle
     /// Dynamics*, ch. 4: peak D for C ≥ 1, large-slip value D·sin(C·π/2)):
@@ -306,21 +302,22 @@ impl MagicFormulaCoefficients {
     ///   G = cos(C·atan(…)) has atan(…) up to π/2, so C > 1 lets G turn
     ///   negative at large slip, i.e. braking at a large slip angle would push
     ///   the car forward.
-    pub fn check(&self, path: &str, issues: &mut Vec<ParamIssue>) {
+    pub fn check(&self) -> Vec<CoefficientIssue> {
+        let mut issues = Vec::new();
         for (key, value) in self.entries() {
             if !value.is_finite() {
-                issues.push(ParamIssue::new(
-                    format!("{path}.{key}"),
-                    format!("must be a finite number, got {value}"),
-                ));
+                issues.push(CoefficientIssue {
+                    key: key.to_string(),
+                    message: format!("must be a finite number, got {value}"),
+                });
             }
         }
         let mut flag = |key: &str, value: f64, ok: bool, rule: &str| {
             if value.is_finite() && !ok {
-                issues.push(ParamIssue::new(
-                    format!("{path}.{key}"),
-                    format!("{rule}, got {value}"),
-                ));
+                issues.push(CoefficientIssue {
+                    key: key.to_string(),
+                    message: format!("{rule}, got {value}"),
+                });
             }
         };
         flag(
@@ -400,7 +397,17 @@ impl MagicFormulaCoefficients {
                  cos(C*atan(..)) turns negative and the force reverses at large slip)",
             );
         }
+        issues
     }
+}
+
+/// A physically impossible Magic Formula coefficient.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CoefficientIssue {
+    /// The coefficient's key in the table, e.g. `pCx1`.
+    pub key: String,
+    /// What is wrong, with the value.
+    pub message: String,
 }
 
 #[cfg(test)]
@@ -419,9 +426,10 @@ mod tests {
     }
 
     fn paths(mf: &MagicFormulaCoefficients) -> Vec<String> {
-        let mut issues = Vec::new();
-        mf.check(PATH, &mut issues);
-        issues.into_iter().map(|i| i.path).collect()
+        mf.check()
+            .into_iter()
+            .map(|i| format!("{PATH}.{}", i.key))
+            .collect()
     }
 
     /// Schema: published MF 5.2 key names, defaults as documented, unknown and
@@ -503,8 +511,7 @@ mod tests {
         let mut mf = valid();
         mf.p_cx1 = f64::INFINITY;
         mf.nominal_load_n = f64::NEG_INFINITY;
-        let mut issues = Vec::new();
-        mf.check(PATH, &mut issues);
+        let issues = mf.check();
         assert_eq!(issues.len(), 2, "{issues:?}");
         assert!(issues.iter().all(|i| i.message.contains("finite")));
         // Boundary values that are allowed.

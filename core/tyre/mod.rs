@@ -8,7 +8,9 @@
 //! from the vehicle file with its plausibility check. It does not compute the
 //! slips from the wheel and body velocities, apply relaxation lengths, or
 //! integrate wheel spin: those live in the vehicle model. It allocates nothing
-//! and does no I/O, so it can be called inside the ODE right-hand side.
+//! and does no I/O, so it can be called inside the ODE right-hand side. It
+//! imports nothing from the rest of the crate: the parameter files build on
+//! it, not the other way round.
 //!
 //! [`inspect`] draws curves and key figures of one tyre from the same force
 //! function (tyre inspection).
@@ -21,5 +23,5 @@ mod coefficients;
 pub mod inspect;
 mod model;
 
-pub use coefficients::MagicFormulaCoefficients;
+pub use coefficients::{CoefficientIssue, MagicFormulaCoefficients};
 pub use model::{CombinedSlip, TyreForce, TyreModel};

@@ -163,8 +163,8 @@ impl TyreModel {
             * friction
     }
 
-    /// Kxκ = Fz·(pKx1 + pKx2·dfz)·exp(pKx3·dfz), floored at 0 (MF 5.2, from
-    /// memory; REFERENCES.md).
+    /// Kxκ = Fz·(pKx1 + pKx2·dfz)·exp(pKx3·dfz), floored at 0 (MF 5.2;
+    /// Pacejka, *Tire and Vehicle Dynamics*, 2nd ed., ch. 4, from memory).
     #[inline]
     fn kx(&self, fz: f64, dfz: f64) -> f64 {
         let m = &self.mf;
@@ -172,7 +172,8 @@ impl TyreModel {
     }
 
     /// Kyα = pKy1·Fz0'·sin(2·atan(Fz/(pKy2·Fz0')))·(1 − pKy3·|γ|), floored
-    /// at 0 (MF 5.2, from memory; REFERENCES.md). Evaluated with the identity
+    /// at 0 (MF 5.2; Pacejka, *Tire and Vehicle Dynamics*, 2nd ed., ch. 4,
+    /// from memory). Evaluated with the identity
     /// sin(2·atan u) = 2u/(1 + u²), which saves two transcendental calls.
     #[inline]
     fn ky(&self, fz: f64, gamma: f64) -> f64 {
@@ -187,8 +188,8 @@ impl TyreModel {
         (m.p_ky1 * fz0 * sin_2atan * (1.0 - m.p_ky3 * gamma.abs())).max(0.0)
     }
 
-    /// Pure longitudinal curve at load `fz` > 0 (MF 5.2 as in REFERENCES.md,
-    /// from memory): Cx = pCx1, Dx = μx·Fz,
+    /// Pure longitudinal curve at load `fz` > 0 (MF 5.2; Pacejka, *Tire and
+    /// Vehicle Dynamics*, 2nd ed., ch. 4, from memory): Cx = pCx1, Dx = μx·Fz,
     /// Ex = (pEx1 + pEx2·dfz + pEx3·dfz²)·(1 − pEx4·sgn κx), Bx = Kxκ/(Cx·Dx),
     /// SHx = pHx1 + pHx2·dfz, SVx = Fz·(pVx1 + pVx2·dfz)·λμx·friction.
     #[inline]
@@ -208,8 +209,9 @@ impl TyreModel {
         }
     }
 
-    /// Pure lateral curve at load `fz` > 0 and camber `gamma` (MF 5.2 as in
-    /// REFERENCES.md, from memory): Cy = pCy1, Dy = μy·Fz,
+    /// Pure lateral curve at load `fz` > 0 and camber `gamma` (MF 5.2;
+    /// Pacejka, *Tire and Vehicle Dynamics*, 2nd ed., ch. 4, from memory):
+    /// Cy = pCy1, Dy = μy·Fz,
     /// Ey = (pEy1 + pEy2·dfz)·(1 − (pEy3 + pEy4·γ)·sgn αy), By = Kyα/(Cy·Dy),
     /// SHy = pHy1 + pHy2·dfz + pHy3·γ,
     /// SVy = Fz·[(pVy1 + pVy2·dfz) + (pVy3 + pVy4·dfz)·γ]·λμy·friction.
@@ -634,7 +636,7 @@ rCy1 = 1.0
         assert!(fx < mf.p_dx1 * fz && fy < mf.p_dy1 * fz);
     }
 
-    /// Common practice (REFERENCES.md, facts of the trade): μ falls as load
+    /// Common practice (a fact of the trade, no single source): μ falls as load
     /// rises when pDx2, pDy2 < 0. The peak force per unit load found by a scan
     /// must fall, and equal pD1 + pD2·dfz (MF 5.2, from memory).
     #[test]
@@ -654,8 +656,8 @@ rCy1 = 1.0
         }
     }
 
-    /// Source: MF 5.2 cornering stiffness (REFERENCES.md, Pacejka ch. 4, from
-    /// memory): Kyα = pKy1·Fz0·sin(2·atan(Fz/(pKy2·Fz0))); the numerical slope
+    /// Source: MF 5.2 cornering stiffness (Pacejka, *Tire and Vehicle
+    /// Dynamics*, 2nd ed., ch. 4, from memory): Kyα = pKy1·Fz0·sin(2·atan(Fz/(pKy2·Fz0))); the numerical slope
     /// of Fy0 at α = 0 follows it, and it peaks at Fz = pKy2·Fz0.
     #[test]
     fn cornering_stiffness_follows_mf52_form() {
@@ -791,7 +793,7 @@ rCy1 = 1.0
         }
     }
 
-    /// Common practice (REFERENCES.md, facts of the trade): a driven or braked
+    /// Common practice (a fact of the trade, no single source): a driven or braked
     /// tyre has less lateral grip. At κ = ±0.05 the lateral force is strictly
     /// below the free-rolling one for α from 1° to 8°, both methods.
     #[test]
@@ -816,7 +818,7 @@ rCy1 = 1.0
     }
 
     /// Sign convention (documented on TyreModel; Pacejka's tan α = −Vcy/Vcx,
-    /// REFERENCES.md [memory]): positive α gives positive (leftward) Fy,
+    /// *Tire and Vehicle Dynamics*, 2nd ed., ch. 1, from memory): positive α gives positive (leftward) Fy,
     /// positive κ positive (forward) Fx; odd symmetry without asymmetric terms.
     #[test]
     fn signs_follow_iso_8855() {
@@ -909,7 +911,7 @@ rCy1 = 1.0
 
     /// Plausibility check only (not a validation): the published example
     /// coefficients of Genta, Motor Vehicle Dynamics (1997), older Magic
-    /// Formula notation as quoted in REFERENCES.md (Fz in kN, α in degrees,
+    /// Formula notation as quoted in secondary sources (Fz in kN, α in degrees,
     /// κ in %): μ = D/Fz with D = (a1·Fz + a2)·Fz, a1 = 0; Kyα = a3·sin(2·atan(Fz/a4))
     /// (N/deg); Kxκ = (b3·Fz² + b4·Fz)·exp(−b5·Fz) (N/%), b3 = b5 = 0 — the older
     /// form's D and BCD expressions are from memory. At 4 kN they must be of the
@@ -953,15 +955,13 @@ rCy1 = 1.0
     }
 
     /// The invented demo sets pass the check and land in their intended
-    /// ranges at nominal load (targets of the brief; the printed numbers are
-    /// copied into the notes file).
+    /// ranges at nominal load (the demo vehicles' design targets).
     #[test]
     fn demo_sets_hit_their_targets() {
         let sets = demo_sets();
         for (name, mf) in &sets {
-            let mut issues = Vec::new();
-            mf.check(name, &mut issues);
-            assert!(issues.is_empty(), "{issues:?}");
+            let issues = mf.check();
+            assert!(issues.is_empty(), "{name}: {issues:?}");
             let tyre = TyreModel::new(mf);
             let fz = mf.nominal_load_n;
             let (mux, muy) = tyre.peak_friction(fz, 1.0);

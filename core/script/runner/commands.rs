@@ -272,6 +272,7 @@ impl InputSource for Inputs {
             axle_torque: h.axle_torque.or(open_axle_torque),
             wheel_torque: h.wheel_torque,
             wheel_brake: h.wheel_brake,
+            powertrain: crate::model::PowertrainCommands::default(),
         }
     }
 

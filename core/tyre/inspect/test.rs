@@ -47,7 +47,7 @@ fn force_is_the_vehicle_models_bit_for_bit() {
         let setup = TyreSetup {
             model: t.model,
             camber: t.camber,
-            friction: v.road_friction,
+            friction: v.road.friction,
             method: t.combined_slip,
         };
         let w = &e.wheels[wheel];
