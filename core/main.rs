@@ -1,7 +1,8 @@
 //! The `yawdyn` command: parse arguments, run, map the outcome to an exit code.
 //!
-//! Exit codes: 0 success; 1 a run, criterion or check failed; 2 bad input
-//! (options, vehicle file, script).
+//! Exit codes: see `yawdyn::error::EXIT_CODES` (0 success; 1 a run, criterion
+//! or check failed, or the machine got in the way; 2 bad input). An error's
+//! code comes from the first classified error in its chain.
 
 mod cli;
 

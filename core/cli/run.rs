@@ -7,19 +7,16 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 
 use anyhow::Context;
-use yawdyn::manoeuvre::script::{RunOptions, ScriptError, run_script};
+use yawdyn::manoeuvre::script::{RunOptions, run_script};
 use yawdyn::results::{self, RunRecord, RunStatus};
 use yawdyn::table::{Table, fmt_num};
 
-use super::{Outcome, bad_input, parse_overrides};
+use super::{Outcome, parse_overrides};
 
 /// Arguments of `yawdyn run`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "Exit codes: 0 the run completed and every criterion passed; \
-1 the run failed (e.g. the integration diverged) or a criterion failed; \
-2 bad input (options, vehicle file, script error). The results file is written \
-whenever the run produced data, also when it failed."
+    after_help = "The results file is written whenever the run produced data, also when it failed."
 )]
 pub struct Args {
     /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai.
@@ -50,6 +47,10 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .out
         .clone()
         .unwrap_or_else(|| default_out(&args.script));
+    results::check_output_path(&out)?;
+    if let Some(csv) = &args.csv {
+        results::check_output_path(csv)?;
+    }
     let bar = progress_bar(args.quiet);
     let options = RunOptions {
         vehicle: args.vehicle.clone(),
@@ -74,15 +75,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     if let Some(bar) = &bar {
         bar.finish_and_clear();
     }
-    let record = match result {
-        Ok(record) => record,
-        Err(e @ ScriptError::Vehicle { .. }) => return Err(anyhow::Error::new(e)),
-        Err(e) => return Err(bad_input(e.to_string())),
-    };
-    if let Some(dir) = out.parent().filter(|d| !d.as_os_str().is_empty()) {
-        std::fs::create_dir_all(dir)
-            .with_context(|| format!("cannot create directory {}", dir.display()))?;
-    }
+    let record = result?;
     results::write_hdf5(&record, &out)
         .with_context(|| format!("cannot write results file {}", out.display()))?;
     if let Some(csv) = &args.csv {

@@ -6,8 +6,10 @@
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
+use anyhow::Context;
 use rayon::prelude::*;
 use serde_json::{Value, json};
+use yawdyn::error::{Classify, ErrorKind};
 use yawdyn::model::WHEEL_NAMES;
 use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle_text};
 use yawdyn::plot::{Axis, HeatMap, heat_map};
@@ -153,7 +155,7 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
             "front_share" => point.front_share = Some(value),
             path => overrides.push(
                 Override::parse(&format!("{path}={value}"))
-                    .map_err(|e| bad_input(format!("--vary {path}: {e}")))?,
+                    .with_context(|| format!("--vary {path}"))?,
             ),
         }
     }
@@ -170,21 +172,15 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
         long_accel: point.long_accel_g * GRAVITY,
         front_share: point.front_share.unwrap_or(vehicle.front_share),
     };
-    target
-        .validate(&vehicle)
-        .map_err(|e| bad_input(e.to_string()))?;
+    target.validate(&vehicle)?;
     Ok(Case { vehicle, target })
 }
 
 /// Runs `yawdyn stability`.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let overrides = parse_overrides(&args.sets)?;
-    let text = std::fs::read_to_string(&args.vehicle).map_err(|e| {
-        bad_input(format!(
-            "cannot read vehicle file {}: {e}",
-            args.vehicle.display()
-        ))
-    })?;
+    let text = std::fs::read_to_string(&args.vehicle)
+        .with_context(|| format!("cannot read vehicle file {}", args.vehicle.display()))?;
     let inputs = Inputs {
         text: &text,
         path: &args.vehicle,
@@ -227,7 +223,7 @@ fn single(args: &Args, case: &Case) -> anyhow::Result<Outcome> {
     let elapsed = started.elapsed().as_secs_f64();
     let report = match result {
         Ok(r) => r,
-        Err(e) if e.is_bad_input() => return Err(bad_input(e.to_string())),
+        Err(e) if e.kind() == ErrorKind::BadInput => return Err(e.into()),
         Err(e) => {
             let largest = match &e {
                 StabilityError::NoTrim {
@@ -474,9 +470,9 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
     let elapsed = started.elapsed().as_secs_f64();
     if let Some(Err(e)) = results
         .iter()
-        .find(|r| matches!(r, Err(e) if e.is_bad_input()))
+        .find(|r| matches!(r, Err(e) if e.kind() == ErrorKind::BadInput))
     {
-        return Err(bad_input(e.to_string()));
+        return Err(e.clone().into());
     }
     let points: Vec<MapPoint> = results.iter().map(MapPoint::from_result).collect();
     let describe = |key: &str| match key {

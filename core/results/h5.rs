@@ -1,16 +1,15 @@
 //! Writing and reading the HDF5 results file (layout: see the module
-//! documentation of [`crate::results`]), and the HDF5 layer the sweep file
-//! shares with it.
+//! documentation of [`crate::results`]), and the one HDF5 layer of the
+//! crate, which sweep files use too.
 //!
-//! A sweep file stores each case in a group `/cases/<n>/` with the same
-//! sub-layout as a results file's root (`time`, `channel_order`, `channels/*`,
-//! `metric_order`, `metrics/*`, `criteria/*`). [`H5Context::write_samples`]
-//! and [`H5Context::read_samples`] are the one implementation of that block;
-//! the string/number helpers, the unlocked file builder and the switch for
-//! HDF5 object time tracking live here too. Errors of this layer are
-//! [`H5Error`]s naming the file; each boundary converts them into its own
-//! enum ([`ResultsError`] here, `SweepError` in [`crate::sweep`]).
+//! [`H5Context`] holds the string/number helpers, the growing (chunked,
+//! extendable) one-dimensional columns of sweep files, the unlocked file
+//! builder and the switch for HDF5 object time tracking. Errors of this layer
+//! are [`H5Error`]s naming the file and whether it was being read or written;
+//! each boundary converts them into its own enum ([`ResultsError`] here,
+//! `SweepError` in [`crate::sweep`]).
 
+use std::ops::Range;
 use std::path::{Path, PathBuf};
 use std::str::FromStr;
 
@@ -19,8 +18,8 @@ use hdf5::{Dataset, File, Group, H5Type, Location};
 
 use super::atomic::write_atomically;
 use super::{
-    Channel, Criterion, FORMAT_NAME, FORMAT_VERSION, Metric, Provenance, ResultsError, RunRecord,
-    RunStatus,
+    Access, Channel, Criterion, FORMAT_NAME, FORMAT_VERSION, Metric, Provenance, ResultsError,
+    RunRecord, RunStatus,
 };
 
 /// Write `record` to `path` as a yawdyn HDF5 results file.
@@ -40,7 +39,7 @@ pub fn write_hdf5(record: &RunRecord, path: &Path) -> Result<(), ResultsError> {
         reason,
     })?;
     write_atomically(path, |temp| {
-        let ctx = H5Context::new(path, TrackTimes::On);
+        let ctx = H5Context::writer(path, TrackTimes::On);
         let file = ctx.create_file(temp)?;
         write_all(&ctx, &file, record)?;
         file.close().map_err(ctx.h5("closing the HDF5 file"))?;
@@ -55,7 +54,7 @@ pub fn write_hdf5(record: &RunRecord, path: &Path) -> Result<(), ResultsError> {
 /// [`ResultsError`] (never a panic) when the file is missing, not HDF5, or
 /// inconsistent.
 pub fn read_hdf5(path: &Path) -> Result<RunRecord, ResultsError> {
-    let ctx = H5Context::new(path, TrackTimes::On);
+    let ctx = H5Context::reader(path);
     let file = ctx.open_file()?;
     check_format(&ctx, &file)?;
     read_all(&ctx, &file)
@@ -83,7 +82,7 @@ fn write_all(ctx: &H5Context, file: &File, record: &RunRecord) -> Result<(), Res
         metrics: &record.metrics,
         criteria: &record.criteria,
     };
-    ctx.write_samples(root, &samples, Descriptions::Full)?;
+    ctx.write_samples(root, &samples)?;
     write_provenance(ctx, root, prov)
 }
 
@@ -199,18 +198,8 @@ pub(crate) enum TrackTimes {
     Off,
 }
 
-/// Which optional `description` attributes [`H5Context::write_samples`] adds
-/// besides those of the channels.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(crate) enum Descriptions {
-    /// Also on `time` and `criteria/passed` (results files).
-    Full,
-    /// Only on the channels (sweep cases).
-    ChannelsOnly,
-}
-
 /// The block written by [`H5Context::write_samples`]: sample times, channels,
-/// metrics and criteria of one run.
+/// metrics and criteria of one run (the root of a results file).
 pub(crate) struct Samples<'a> {
     /// Sample times, s.
     pub(crate) time: &'a [f64],
@@ -244,6 +233,8 @@ pub(crate) enum H5Error {
         path: PathBuf,
         /// What was being done, e.g. `writing dataset time in /`.
         action: String,
+        /// Reading or writing.
+        access: Access,
         /// The HDF5 error.
         source: hdf5::Error,
     },
@@ -262,10 +253,12 @@ impl From<H5Error> for ResultsError {
             H5Error::Hdf5 {
                 path,
                 action,
+                access,
                 source,
             } => ResultsError::Hdf5 {
                 path,
                 action,
+                access,
                 source,
             },
             H5Error::Invalid { path, reason } => ResultsError::Invalid { path, reason },
@@ -294,14 +287,26 @@ pub(crate) struct H5Context {
     /// The file as the user named it (not the temporary name written to).
     pub(crate) path: PathBuf,
     track_times: TrackTimes,
+    access: Access,
 }
 
 impl H5Context {
-    /// A context for `path`; `track_times` applies to the groups it creates.
-    pub(crate) fn new(path: &Path, track_times: TrackTimes) -> H5Context {
+    /// A context for reading the file `path`.
+    pub(crate) fn reader(path: &Path) -> H5Context {
+        H5Context {
+            path: path.to_path_buf(),
+            track_times: TrackTimes::On,
+            access: Access::Read,
+        }
+    }
+
+    /// A context for writing the file that will be called `path`;
+    /// `track_times` applies to the groups it creates.
+    pub(crate) fn writer(path: &Path, track_times: TrackTimes) -> H5Context {
         H5Context {
             path: path.to_path_buf(),
             track_times,
+            access: Access::Write,
         }
     }
 
@@ -328,9 +333,11 @@ impl H5Context {
     pub(crate) fn h5(&self, action: impl Into<String>) -> impl FnOnce(hdf5::Error) -> H5Error {
         let path = self.path.clone();
         let action = action.into();
+        let access = self.access;
         move |source| H5Error::Hdf5 {
             path,
             action,
+            access,
             source,
         }
     }
@@ -345,24 +352,20 @@ impl H5Context {
 
     // ----- writing -------------------------------------------------------
 
-    /// Writes `samples` into `group` (the root of a results file, or a
-    /// sweep case group) in the layout of [`crate::results`].
+    /// Writes `samples` into `group` (the root of a results file) in the
+    /// layout of [`crate::results`].
     pub(crate) fn write_samples(
         &self,
         group: &Group,
         samples: &Samples<'_>,
-        descriptions: Descriptions,
     ) -> Result<(), H5Error> {
-        let full = descriptions == Descriptions::Full;
         let time = self.dataset_f64(group, "time", samples.time)?;
         self.attr_str(&time, "units", "s")?;
-        if full {
-            self.attr_str(
-                &time,
-                "description",
-                "simulation time of each output sample",
-            )?;
-        }
+        self.attr_str(
+            &time,
+            "description",
+            "simulation time of each output sample",
+        )?;
 
         let names: Vec<&str> = samples.channels.iter().map(|c| c.name.as_str()).collect();
         self.dataset_strs(group, "channel_order", &names)?;
@@ -402,10 +405,58 @@ impl H5Context {
         self.dataset_f64(&criteria, "lower", &lower)?;
         self.dataset_f64(&criteria, "upper", &upper)?;
         let ds = self.dataset_1d(&criteria, "passed", &passed)?;
-        if full {
-            self.attr_str(&ds, "description", "1 = passed, 0 = failed")?;
+        self.attr_str(&ds, "description", "1 = passed, 0 = failed")
+    }
+
+    /// Creates the empty one-dimensional dataset `name` in `group` that grows
+    /// along its one dimension, stored in chunks of `chunk` elements; with
+    /// `fill`, elements never written read as that value.
+    pub(crate) fn growing<T: H5Type>(
+        &self,
+        group: &Group,
+        name: &str,
+        chunk: usize,
+        fill: Option<T>,
+    ) -> Result<Dataset, H5Error> {
+        let mut builder = group
+            .new_dataset::<T>()
+            .chunk(chunk.max(1))
+            .shape(hdf5::SimpleExtents::resizable([0]));
+        if let Some(fill) = fill {
+            builder = builder.fill_value(fill);
         }
-        Ok(())
+        builder
+            .create(name)
+            .map_err(self.h5(format!("creating dataset {name} in {}", group.name())))
+    }
+
+    /// Writes `data` to elements `start .. start + data.len()` of the growing
+    /// dataset `ds`, extending it first to that length when it is shorter.
+    pub(crate) fn write_at<T: H5Type>(
+        &self,
+        ds: &Dataset,
+        start: usize,
+        data: &[T],
+    ) -> Result<(), H5Error> {
+        let end = start + data.len();
+        if ds.size() < end {
+            ds.resize(end)
+                .map_err(self.h5(format!("extending {} to {end} elements", ds.name())))?;
+        }
+        ds.write_slice(data, start..end)
+            .map_err(self.h5(format!("writing elements {start}..{end} of {}", ds.name())))
+    }
+
+    /// Writes the texts `items` to elements `start ..` of the growing text
+    /// dataset `ds` (see [`H5Context::write_at`]).
+    pub(crate) fn write_text_at(
+        &self,
+        ds: &Dataset,
+        start: usize,
+        items: &[&str],
+    ) -> Result<(), H5Error> {
+        let values = self.unicodes(&format!("dataset {}", ds.name()), items)?;
+        self.write_at(ds, start, &values)
     }
 
     /// Creates group `name` in `parent`, with this context's time tracking.
@@ -657,6 +708,45 @@ impl H5Context {
         }
     }
 
+    /// Reads elements `range` of the one-dimensional dataset `ds`, after
+    /// checking that it holds them.
+    pub(crate) fn read_range<T: H5Type>(
+        &self,
+        ds: &Dataset,
+        range: Range<usize>,
+    ) -> Result<Vec<T>, H5Error> {
+        self.check_1d(ds)?;
+        if range.end > ds.size() || range.start > range.end {
+            return Err(self.invalid(format!(
+                "{} has {} elements; elements {}..{} were asked for",
+                ds.name(),
+                ds.size(),
+                range.start,
+                range.end
+            )));
+        }
+        if range.is_empty() {
+            return Ok(Vec::new());
+        }
+        let what = format!(
+            "reading elements {}..{} of {}",
+            range.start,
+            range.end,
+            ds.name()
+        );
+        ds.read_slice_1d::<T, _>(range)
+            .map(|a| a.into_iter().collect())
+            .map_err(self.h5(what))
+    }
+
+    /// Reads the texts of the one-dimensional text dataset `ds`.
+    pub(crate) fn read_strs_from(&self, ds: &Dataset) -> Result<Vec<String>, H5Error> {
+        self.check_1d(ds)?;
+        ds.read_raw::<VarLenUnicode>()
+            .map(|items| items.iter().map(|t| t.as_str().to_string()).collect())
+            .map_err(self.h5(format!("reading text list from {}", ds.name())))
+    }
+
     /// Reads the text scalar dataset `name` in `group`.
     pub(crate) fn read_str(&self, group: &Group, name: &str) -> Result<String, H5Error> {
         let ds = self.open_dataset(group, name)?;
@@ -668,9 +758,6 @@ impl H5Context {
     /// Reads the one-dimensional text dataset `name` in `group`.
     pub(crate) fn read_strs(&self, group: &Group, name: &str) -> Result<Vec<String>, H5Error> {
         let ds = self.open_dataset(group, name)?;
-        self.check_1d(&ds)?;
-        ds.read_raw::<VarLenUnicode>()
-            .map(|items| items.iter().map(|t| t.as_str().to_string()).collect())
-            .map_err(self.h5(format!("reading text list from {}", ds.name())))
+        self.read_strs_from(&ds)
     }
 }

@@ -143,6 +143,17 @@ impl SimError {
     }
 }
 
+impl crate::error::Classify for SimError {
+    /// A run that diverged or that the solver gave up on failed; settings that
+    /// make no sense are bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        match self {
+            Self::NonFinite { .. } | Self::Solver { .. } => crate::error::ErrorKind::Failed,
+            Self::Settings(_) => crate::error::ErrorKind::BadInput,
+        }
+    }
+}
+
 /// The ODE right-hand side handed to `ode_solvers`: model, vehicle and inputs.
 struct Plant<'a, I: InputSource + ?Sized> {
     vehicle: &'a Vehicle,
