@@ -449,6 +449,10 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
 }
 
 fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow::Result<Outcome> {
+    // Output paths are checked before the grid is computed.
+    for out in [&args.out, &args.plot].into_iter().flatten() {
+        yawdyn::results::check_output_path(out)?;
+    }
     let n0 = vary[0].values.len();
     let n1 = vary.get(1).map_or(1, |a| a.values.len());
     let mut cases = Vec::with_capacity(n0 * n1);

@@ -36,12 +36,9 @@ fn parent_dir(path: &Path) -> &Path {
     }
 }
 
-/// Makes ready to write `path`: refuses a path that is a directory, creates
-/// the parent directories and creates the (empty) temporary file beside it,
-/// whose name it returns. Every problem with the path the user gave (a
-/// read-only or uncreatable directory, a directory where the file should be)
-/// is a [`ResultsError::Io`] naming it, of kind bad input.
-pub(crate) fn prepare_output(path: &Path) -> Result<PathBuf, ResultsError> {
+/// Refuses an output path that is a directory, or whose directory has a
+/// regular file among its ancestors (so it cannot be created).
+fn refuse_impossible_output(path: &Path) -> Result<(), ResultsError> {
     if path.is_dir() {
         return Err(ResultsError::Io {
             path: path.to_path_buf(),
@@ -50,35 +47,67 @@ pub(crate) fn prepare_output(path: &Path) -> Result<PathBuf, ResultsError> {
         });
     }
     let dir = parent_dir(path);
+    if let Some(file) = dir.ancestors().find(|d| d.is_file()) {
+        return Err(ResultsError::Io {
+            path: file.to_path_buf(),
+            action: format!("is a file, so {} cannot be created", dir.display()),
+            source: std::io::Error::from(std::io::ErrorKind::NotADirectory),
+        });
+    }
+    Ok(())
+}
+
+/// Creates the new, empty temporary file `temp` in `dir`.
+fn create_temp(dir: &Path, temp: &Path) -> Result<(), ResultsError> {
+    fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(temp)
+        .map(drop)
+        .map_err(|source| ResultsError::Io {
+            path: dir.to_path_buf(),
+            action: "creating a file in the output directory".to_string(),
+            source,
+        })
+}
+
+/// Makes ready to write `path`: refuses a path that is a directory, creates
+/// the parent directories and creates the (empty) temporary file beside it,
+/// whose name it returns. Every problem with the path the user gave (a
+/// read-only or uncreatable directory, a directory where the file should be)
+/// is a [`ResultsError::Io`] naming it, of kind bad input.
+pub(crate) fn prepare_output(path: &Path) -> Result<PathBuf, ResultsError> {
+    refuse_impossible_output(path)?;
+    let dir = parent_dir(path);
     fs::create_dir_all(dir).map_err(|source| ResultsError::Io {
         path: dir.to_path_buf(),
         action: "creating the output directory".to_string(),
         source,
     })?;
     let temp = temp_path_for(path)?;
-    fs::OpenOptions::new()
-        .write(true)
-        .create_new(true)
-        .open(&temp)
-        .map_err(|source| ResultsError::Io {
-            path: dir.to_path_buf(),
-            action: "creating a file in the output directory".to_string(),
-            source,
-        })?;
+    create_temp(dir, &temp)?;
     Ok(temp)
 }
 
-/// Checks before a long computation that `path` can be written: the checks
-/// of [`prepare_output`], leaving nothing behind (directories it had to
-/// create stay).
+/// Checks, before a long computation, that `path` can be written, leaving
+/// nothing behind: it is not a directory, no ancestor of its directory is a
+/// file, and a file can be created in its directory (or, when that does not
+/// exist yet, in the nearest existing ancestor, where it will be created).
 ///
 /// ```no_run
 /// yawdyn::results::check_output_path(std::path::Path::new("results/run.h5"))?;
 /// # Ok::<(), yawdyn::results::ResultsError>(())
 /// ```
 pub fn check_output_path(path: &Path) -> Result<(), ResultsError> {
-    let temp = prepare_output(path)?;
-    let _ = fs::remove_file(&temp);
+    refuse_impossible_output(path)?;
+    let dir = parent_dir(path);
+    let existing = dir
+        .ancestors()
+        .find(|d| d.is_dir())
+        .unwrap_or(Path::new("."));
+    let probe = temp_path_for(&existing.join("probe"))?;
+    create_temp(existing, &probe)?;
+    let _ = fs::remove_file(&probe);
     Ok(())
 }
 
@@ -184,7 +213,11 @@ mod output_path_tests {
         fs::write(&file, "x").unwrap();
         let err = check_output_path(&file.join("out.h5")).unwrap_err();
         assert_eq!(err.kind(), ErrorKind::BadInput, "{err}");
-        check_output_path(&dir.path().join("new/out.h5")).unwrap();
-        assert_eq!(fs::read_dir(dir.path().join("new")).unwrap().count(), 0);
+        check_output_path(&dir.path().join("new/deeper/out.h5")).unwrap();
+        assert_eq!(
+            fs::read_dir(dir.path()).unwrap().count(),
+            1,
+            "left something behind"
+        );
     }
 }
