@@ -102,6 +102,7 @@ pub fn run_sweep(
     if options.jobs == 0 {
         return Err(SweepError::Option("--jobs must be at least 1".to_string()));
     }
+    // The output file first: a bad output path costs no case.
     let created = utc_now();
     let version = yawdyn_version();
     let stamp = Stamp {
@@ -110,58 +111,34 @@ pub fn run_sweep(
         shard: options.shard,
     };
     let mut writer = SweepWriter::create(out, spec, &stamp)?;
+    // Workers run the cases; this thread writes them in index order.
     let range = options.shard.range(spec.grid.len());
     let queue = CaseQueue::new(range.clone(), IN_FLIGHT_PER_JOB * options.jobs);
     let threads = options.jobs.min(range.len());
     let cpu_at_start = thread_cpu_time_s();
+    let workers = Workers {
+        spec,
+        runner,
+        options,
+        queue: &queue,
+    };
     std::thread::scope(|scope| -> Result<(), SweepError> {
         let (tx, rx) = mpsc::channel::<SweepCase>();
-        let mut workers = Vec::with_capacity(threads);
-        for n in 0..threads {
-            let (tx, queue) = (tx.clone(), &queue);
-            let work = move || {
-                let _stop_on_panic = StopOnPanic(queue);
-                while let Some(index) = queue.take() {
-                    let case = catch_unwind(AssertUnwindSafe(|| run_case(spec, runner, index)))
-                        .unwrap_or_else(|panic| {
-                            let message = format!("the case panicked: {}", panic_text(&panic));
-                            error_case(spec, index, message)
-                        });
-                    if let Some(progress) = options.progress {
-                        progress();
-                    }
-                    if tx.send(case).is_err() {
-                        break;
-                    }
-                }
-            };
-            let spawned = std::thread::Builder::new()
-                .name(format!("sweep-worker-{n}"))
-                .spawn_scoped(scope, work);
-            match spawned {
-                Ok(handle) => workers.push(handle),
-                Err(source) => {
-                    queue.stop();
-                    return Err(SweepError::Threads {
-                        jobs: options.jobs,
-                        source,
-                    });
-                }
-            }
-        }
+        let handles = workers.spawn(scope, threads, &tx)?;
         drop(tx);
         let written = write_in_order(&rx, &mut writer, &queue, range.start);
         queue.stop();
         drop(rx);
-        for worker in workers {
+        for handle in handles {
             // A worker's panic is reported as the lost case below.
-            let _ = worker.join();
+            let _ = handle.join();
         }
         match written? {
             next if next < range.end => Err(SweepError::Worker { index: next }),
             _ => Ok(()),
         }
     })?;
+    // The last block, then the file under its final name.
     let summary = writer.finish()?;
     Ok(SweepReport {
         out: out.to_path_buf(),
@@ -169,6 +146,67 @@ pub fn run_sweep(
         wall_time_s: started.elapsed().as_secs_f64(),
         writer_cpu_s: thread_cpu_time_s() - cpu_at_start,
     })
+}
+
+/// What every worker thread shares.
+struct Workers<'a> {
+    spec: &'a SweepSpec,
+    runner: &'a CaseRunner<'a>,
+    options: &'a SweepOptions<'a>,
+    queue: &'a CaseQueue,
+}
+
+impl<'a> Workers<'a> {
+    /// Starts `threads` workers that run the cases the queue hands out and
+    /// send them on `tx`. On failure the queue is stopped (the workers
+    /// already started then end) and the error returned.
+    fn spawn<'scope>(
+        &'scope self,
+        scope: &'scope std::thread::Scope<'scope, '_>,
+        threads: usize,
+        tx: &mpsc::Sender<SweepCase>,
+    ) -> Result<Vec<std::thread::ScopedJoinHandle<'scope, ()>>, SweepError>
+    where
+        'a: 'scope,
+    {
+        let mut handles = Vec::with_capacity(threads);
+        for n in 0..threads {
+            let tx = tx.clone();
+            let spawned = std::thread::Builder::new()
+                .name(format!("sweep-worker-{n}"))
+                .spawn_scoped(scope, move || self.work(&tx));
+            match spawned {
+                Ok(handle) => handles.push(handle),
+                Err(source) => {
+                    self.queue.stop();
+                    return Err(SweepError::Threads {
+                        jobs: self.options.jobs,
+                        source,
+                    });
+                }
+            }
+        }
+        Ok(handles)
+    }
+
+    /// One worker: runs cases (panics caught and recorded) until the queue
+    /// is empty or stopped, or the writer has gone.
+    fn work(&self, tx: &mpsc::Sender<SweepCase>) {
+        let _stop_on_panic = StopOnPanic(self.queue);
+        while let Some(index) = self.queue.take() {
+            let case = catch_unwind(AssertUnwindSafe(|| run_case(self.spec, self.runner, index)))
+                .unwrap_or_else(|panic| {
+                    let message = format!("the case panicked: {}", panic_text(&panic));
+                    error_case(self.spec, index, message)
+                });
+            if let Some(progress) = self.options.progress {
+                progress();
+            }
+            if tx.send(case).is_err() {
+                break;
+            }
+        }
+    }
 }
 
 /// Receives finished cases and writes them in index order from `first`;
