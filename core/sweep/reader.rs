@@ -526,7 +526,9 @@ impl From<ResultsError> for SweepError {
                 access,
                 source,
             },
-            other => SweepError::Format {
+            ResultsError::Invalid { path, reason } => SweepError::Format { path, reason },
+            other @ (ResultsError::NotResultsFile { .. }
+            | ResultsError::UnsupportedVersion { .. }) => SweepError::Format {
                 path: PathBuf::new(),
                 reason: other.to_string(),
             },

@@ -73,6 +73,9 @@ struct Block {
 pub(crate) struct SweepWriter {
     ctx: H5Context,
     temp: PathBuf,
+    /// Set once the file is under its final name; until then dropping the
+    /// writer removes the temporary file.
+    finished: bool,
     file: Option<File>,
     columns: Option<SummaryColumns>,
     samples: Option<SampleColumns>,
@@ -101,6 +104,7 @@ impl SweepWriter {
         let ctx = H5Context::writer(path, TrackTimes::Off);
         let temp = prepare_output(path)?;
         let mut writer = SweepWriter {
+            finished: false,
             file: None,
             columns: None,
             samples: None,
@@ -319,15 +323,9 @@ impl SweepWriter {
             .file
             .take()
             .ok_or_else(|| self.ctx.invalid("writer already finished"))?;
-        let closed = file
-            .close()
-            .map_err(self.ctx.h5("closing the HDF5 file"))
-            .map_err(SweepError::from)
-            .and_then(|()| commit_output(&self.temp, &self.ctx.path).map_err(SweepError::from));
-        if let Err(e) = closed {
-            let _ = std::fs::remove_file(&self.temp);
-            return Err(e);
-        }
+        file.close().map_err(self.ctx.h5("closing the HDF5 file"))?;
+        commit_output(&self.temp, &self.ctx.path)?;
+        self.finished = true;
         Ok(std::mem::take(&mut self.summary))
     }
 }
@@ -335,10 +333,10 @@ impl SweepWriter {
 impl Drop for SweepWriter {
     fn drop(&mut self) {
         // An unfinished writer (error part-way) leaves no temporary file behind.
-        if let Some(file) = self.file.take() {
+        if !self.finished {
             self.samples = None;
             self.columns = None;
-            drop(file);
+            drop(self.file.take());
             let _ = std::fs::remove_file(&self.temp);
         }
     }
