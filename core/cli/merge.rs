@@ -38,7 +38,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .count();
     println!(
         "merged {} cases from {} shard files into {} ({} not completed) in {} s \
-         (writing {} s CPU)",
+         (reading and writing {} s CPU)",
         s.len(),
         args.shards.len(),
         report.out.display(),

@@ -50,7 +50,8 @@ pub struct SweepReport {
     pub wall_time_s: f64,
     /// CPU time of the calling thread from the first case handed out to the
     /// closed file, s: writing, ordering and handing out cases, the sweep's
-    /// serial share (NaN where the platform does not tell it).
+    /// serial share (for a merge: reading the shards and writing). NaN where
+    /// the platform does not tell it.
     pub writer_cpu_s: f64,
 }
 
