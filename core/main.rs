@@ -14,8 +14,14 @@ fn main() -> ExitCode {
         Ok(cli::Outcome::Failed) => ExitCode::from(1),
         Err(err) => {
             eprintln!("error: {err}");
+            // A cause already spelled out in the line above is not repeated.
+            let mut above = err.to_string();
             for cause in err.chain().skip(1) {
-                eprintln!("  caused by: {cause}");
+                let text = cause.to_string();
+                if !above.contains(&text) {
+                    eprintln!("  caused by: {text}");
+                }
+                above = text;
             }
             ExitCode::from(cli::exit_code(&err))
         }

@@ -73,6 +73,7 @@ struct Config {
 /// Runs `yawdyn sweep`.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let config = check(args)?;
+    yawdyn::results::check_output_path(&config.out)?;
     preflight(&config)?;
     let runner = script_case_runner(&config.script, config.vehicle.as_deref());
 
