@@ -7,9 +7,13 @@
 //!
 //! | kind | exit code | meaning |
 //! | --- | --- | --- |
-//! | [`ErrorKind::BadInput`] | 2 | options, vehicle file, script, output path: the user must change the input |
+//! | [`ErrorKind::BadInput`] | 2 | options, vehicle file, script, input file, output path: the user must change the input |
 //! | [`ErrorKind::Failed`] | 1 | the input was valid but the run, a criterion or a check failed |
-//! | [`ErrorKind::Environment`] | 1 | the machine got in the way (disk full, I/O error, HDF5 library failure) |
+//! | [`ErrorKind::Environment`] | 1 | the machine got in the way (disk full, I/O error, HDF5 library failure while writing) |
+//!
+//! The user-facing wording of the exit codes is [`EXIT_CODES`]: the
+//! command's `--help` prints [`exit_codes_help`], and the README's table is
+//! [`exit_codes_markdown`] (a test keeps the README equal to it).
 
 /// The kind of a failure, which decides the process exit code.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -38,6 +42,67 @@ pub trait Classify {
     fn kind(&self) -> ErrorKind;
 }
 
+/// The kind of a file-system error met on a path the user named (an input
+/// file, an output file or its directory): a missing file or directory, a
+/// permission refused, a directory where a file is wanted (or the reverse)
+/// and a read-only file system are bad input; anything else (disk full,
+/// device or network errors) is the environment.
+pub fn io_kind(error: &std::io::Error) -> ErrorKind {
+    use std::io::ErrorKind as Io;
+    match error.kind() {
+        Io::NotFound
+        | Io::PermissionDenied
+        | Io::AlreadyExists
+        | Io::NotADirectory
+        | Io::IsADirectory
+        | Io::DirectoryNotEmpty
+        | Io::ReadOnlyFilesystem
+        | Io::InvalidInput
+        | Io::InvalidData => ErrorKind::BadInput,
+        _ => ErrorKind::Environment,
+    }
+}
+
+/// The exit codes of the `yawdyn` command and what each means, in the one
+/// wording used by `--help` and the README.
+pub const EXIT_CODES: [(u8, &str); 3] = [
+    (
+        0,
+        "success: every run completed, every criterion and check passed",
+    ),
+    (
+        1,
+        "failed: a run failed (diverged, solver gave up, the simulated-time limit, an error in \
+         the script's evaluate after the simulation; the results file is still written, status \
+         failed), a criterion or regression check failed, no trim exists, or the machine got \
+         in the way (disk full, I/O error)",
+    ),
+    (
+        2,
+        "bad input: options, vehicle file, script, a manoeuvre.* key the script does not read, \
+         input file or output path (read-only or missing directory, a directory where a file \
+         is wanted); the message names the file, line or key",
+    ),
+];
+
+/// The exit codes as plain text for `--help`: a heading and one line per code.
+pub fn exit_codes_help() -> String {
+    let mut text = String::from("Exit codes:");
+    for (code, meaning) in EXIT_CODES {
+        text.push_str(&format!("\n  {code}  {meaning}"));
+    }
+    text
+}
+
+/// The exit codes as the Markdown table of the README.
+pub fn exit_codes_markdown() -> String {
+    let mut text = String::from("| code | meaning |\n| --- | --- |\n");
+    for (code, meaning) in EXIT_CODES {
+        text.push_str(&format!("| {code} | {meaning} |\n"));
+    }
+    text
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -48,5 +113,39 @@ mod tests {
         assert_eq!(ErrorKind::BadInput.exit_code(), 2);
         assert_eq!(ErrorKind::Failed.exit_code(), 1);
         assert_eq!(ErrorKind::Environment.exit_code(), 1);
+        let codes: Vec<u8> = EXIT_CODES.iter().map(|(c, _)| *c).collect();
+        assert_eq!(codes, vec![0, 1, 2]);
+    }
+
+    /// Path problems are the user's; a full disk is the machine's.
+    #[test]
+    fn io_errors_are_classified_by_what_went_wrong() {
+        use std::io::{Error, ErrorKind as Io};
+        for kind in [
+            Io::NotFound,
+            Io::PermissionDenied,
+            Io::IsADirectory,
+            Io::NotADirectory,
+            Io::ReadOnlyFilesystem,
+        ] {
+            assert_eq!(io_kind(&Error::from(kind)), ErrorKind::BadInput, "{kind:?}");
+        }
+        for kind in [Io::StorageFull, Io::Interrupted, Io::Other] {
+            assert_eq!(
+                io_kind(&Error::from(kind)),
+                ErrorKind::Environment,
+                "{kind:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn help_and_markdown_carry_the_same_wording() {
+        let help = exit_codes_help();
+        let table = exit_codes_markdown();
+        for (code, meaning) in EXIT_CODES {
+            assert!(help.contains(&format!("{code}  {meaning}")));
+            assert!(table.contains(&format!("| {code} | {meaning} |")));
+        }
     }
 }

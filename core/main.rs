@@ -1,7 +1,8 @@
 //! The `yawdyn` command: parse arguments, run, map the outcome to an exit code.
 //!
-//! Exit codes: 0 success; 1 a run, criterion or check failed; 2 bad input
-//! (options, vehicle file, script).
+//! Exit codes: see `yawdyn::error::EXIT_CODES` (0 success; 1 a run, criterion
+//! or check failed, or the machine got in the way; 2 bad input). An error's
+//! code comes from the first classified error in its chain.
 
 mod cli;
 
@@ -13,8 +14,14 @@ fn main() -> ExitCode {
         Ok(cli::Outcome::Failed) => ExitCode::from(1),
         Err(err) => {
             eprintln!("error: {err}");
+            // A cause already spelled out in the line above is not repeated.
+            let mut above = err.to_string();
             for cause in err.chain().skip(1) {
-                eprintln!("  caused by: {cause}");
+                let text = cause.to_string();
+                if !above.contains(&text) {
+                    eprintln!("  caused by: {text}");
+                }
+                above = text;
             }
             ExitCode::from(cli::exit_code(&err))
         }

@@ -507,10 +507,11 @@ fn perf_direct_corner_exit_1000_cases() {
     let report = run_sweep(&spec, &options(jobs, Shard::WHOLE), &runner, &out).unwrap();
     let size = std::fs::metadata(&out).unwrap().len();
     println!(
-        "jobs {jobs}: {} cases, {} not completed, wall {:.2} s, file {:.1} MB",
+        "jobs {jobs}: {} cases, {} not completed, wall {:.2} s, writer thread {:.3} s CPU, file {:.1} MB",
         report.summary.len(),
         report.failed(),
         report.wall_time_s,
+        report.writer_cpu_s,
         size as f64 / 1e6
     );
 }

@@ -115,6 +115,21 @@ pub enum AnalysisError {
     },
 }
 
+impl crate::error::Classify for AnalysisError {
+    /// Arguments that make no sense (lengths, time order, parameters) are bad
+    /// input; a record that does not show what the evaluation needs (too
+    /// short, not steady, non-finite, no such event) is a failed run.
+    fn kind(&self) -> crate::error::ErrorKind {
+        use crate::error::ErrorKind;
+        match self {
+            AnalysisError::LengthMismatch { .. }
+            | AnalysisError::TimeNotIncreasing { .. }
+            | AnalysisError::InvalidParameter { .. } => ErrorKind::BadInput,
+            _ => ErrorKind::Failed,
+        }
+    }
+}
+
 /// Check that `time` is finite and strictly increasing, that it has at least
 /// `min_len` samples, and that every channel has the same length and finite
 /// values.

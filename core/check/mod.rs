@@ -247,6 +247,20 @@ pub enum CheckError {
     },
 }
 
+impl crate::error::Classify for CheckError {
+    /// A file that cannot be read as a results file has the kind of its
+    /// results error (bad input for a missing, foreign or damaged file); an
+    /// unusable tolerance is bad input; replacing the baseline fails by its
+    /// file-system cause.
+    fn kind(&self) -> crate::error::ErrorKind {
+        match self {
+            CheckError::Read { source, .. } => source.kind(),
+            CheckError::Tolerance(_) => crate::error::ErrorKind::BadInput,
+            CheckError::Io { source, .. } => crate::error::io_kind(source),
+        }
+    }
+}
+
 /// Reads both files and compares them ([`compare`]).
 pub fn compare_files(
     result: &Path,

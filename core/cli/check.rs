@@ -8,12 +8,10 @@
 
 use std::path::PathBuf;
 
-use yawdyn::check::{
-    Alignment, CheckError, Comparison, Deviation, Tolerance, compare_files, update_baseline,
-};
+use yawdyn::check::{Alignment, Comparison, Deviation, Tolerance, compare_files, update_baseline};
 use yawdyn::table::{Table, fmt_num};
 
-use super::{Outcome, bad_input};
+use super::Outcome;
 
 /// Rows of the deviation table printed when everything passes.
 const SHOW_PASSING: usize = 5;
@@ -42,13 +40,6 @@ pub struct Args {
     json: bool,
 }
 
-fn bad(err: CheckError) -> anyhow::Error {
-    match err {
-        CheckError::Io { .. } => anyhow::Error::new(err),
-        other => bad_input(other.to_string()),
-    }
-}
-
 /// Runs `yawdyn check`.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let tolerance = Tolerance {
@@ -56,7 +47,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         atol: args.atol,
     };
     if args.update {
-        update_baseline(&args.result, &args.against).map_err(bad)?;
+        update_baseline(&args.result, &args.against)?;
         println!(
             "baseline {} replaced by {}",
             args.against.display(),
@@ -64,7 +55,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         );
         return Ok(Outcome::Success);
     }
-    let cmp = compare_files(&args.result, &args.against, tolerance).map_err(bad)?;
+    let cmp = compare_files(&args.result, &args.against, tolerance)?;
     if args.json {
         let mut value = serde_json::to_value(&cmp)?;
         value["passed"] = serde_json::Value::Bool(cmp.passed());

@@ -3,7 +3,7 @@
 
 use std::path::PathBuf;
 
-use yawdyn::sweep::{CaseStatus, SweepError, merge_sweeps};
+use yawdyn::sweep::{CaseStatus, merge_sweeps};
 use yawdyn::table::fmt_num;
 
 use super::{Outcome, bad_input};
@@ -20,7 +20,8 @@ pub struct Args {
 
 /// Runs `yawdyn merge`. Exit 0 when the merge was written (whatever the
 /// cases' statuses; `yawdyn sweep` reported those), 2 when the shards do not
-/// belong together or do not cover the sweep exactly once.
+/// belong together, do not cover the sweep exactly once, or are not sweep
+/// files of this layout version.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     if args.shards.iter().any(|s| s == &args.out) {
         return Err(bad_input(format!(
@@ -28,13 +29,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
             args.out.display()
         )));
     }
-    let report = merge_sweeps(&args.out, &args.shards).map_err(|e: SweepError| {
-        if e.is_bad_input() {
-            bad_input(e.to_string())
-        } else {
-            anyhow::Error::new(e)
-        }
-    })?;
+    let report = merge_sweeps(&args.out, &args.shards)?;
     let s = &report.summary;
     let not_completed = s
         .status
@@ -42,12 +37,14 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .filter(|&&x| x != CaseStatus::Completed)
         .count();
     println!(
-        "merged {} cases from {} shard files into {} ({} not completed) in {} s",
+        "merged {} cases from {} shard files into {} ({} not completed) in {} s \
+         (reading and writing {} s CPU)",
         s.len(),
         args.shards.len(),
         report.out.display(),
         not_completed,
-        fmt_num(report.wall_time_s, 3)
+        fmt_num(report.wall_time_s, 3),
+        fmt_num(report.writer_cpu_s, 3)
     );
     Ok(Outcome::Success)
 }

@@ -17,7 +17,9 @@ mod values;
 mod vehicle;
 mod yaw_moment;
 
+use anyhow::Context;
 use clap::{CommandFactory, FromArgMatches, Parser, Subcommand};
+use yawdyn::error::{Classify, ErrorKind, io_kind};
 
 /// How a command ended when it did not fail on bad input.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -28,8 +30,9 @@ pub enum Outcome {
     Failed,
 }
 
-/// Marks an error as bad input (exit code 2). Wrap with `.context(BadInput)`
-/// or return `Err(BadInput.into())`-style errors through [`bad_input`].
+/// An input problem found by the command line itself (an option missing or
+/// out of range, options that do not fit together): bad input, exit code 2.
+/// Errors of the library are passed on as they are, never turned into this.
 #[derive(Debug)]
 pub struct BadInput(pub String);
 
@@ -41,47 +44,70 @@ impl std::fmt::Display for BadInput {
 
 impl std::error::Error for BadInput {}
 
-/// An error that means "the input is wrong" (exit code 2).
+impl Classify for BadInput {
+    fn kind(&self) -> ErrorKind {
+        ErrorKind::BadInput
+    }
+}
+
+/// An input problem found by the command line itself (see [`BadInput`]).
 pub fn bad_input(message: impl Into<String>) -> anyhow::Error {
     anyhow::Error::new(BadInput(message.into()))
 }
 
-/// Exit code for an error: 2 for bad input (options, parameter files,
-/// scripts), 1 for anything else.
+/// Exit code of an error: that of the first error in its chain (outermost
+/// first) whose kind is known ([`kind_of`]); 1 when none is.
 pub fn exit_code(err: &anyhow::Error) -> u8 {
-    use yawdyn::error::Classify;
-    // A classified library error decides (the first in the chain).
-    let classified = err.chain().find_map(|c| {
-        c.downcast_ref::<yawdyn::script::ScriptError>()
-            .map(|e| e.kind().exit_code())
-            .or_else(|| {
-                c.downcast_ref::<yawdyn::quasi_static::QuasiStaticError>()
-                    .map(|e| e.kind().exit_code())
-            })
-            .or_else(|| {
-                c.downcast_ref::<yawdyn::tyre::inspect::InspectError>()
-                    .map(|e| e.kind().exit_code())
-            })
-    });
-    if let Some(code) = classified {
-        return code;
-    }
-    let bad = err.chain().any(|c| {
-        c.is::<BadInput>() || c.is::<yawdyn::params::ParamError>() || c.is::<clap::Error>()
-    });
-    if bad { 2 } else { 1 }
+    err.chain()
+        .find_map(kind_of)
+        .unwrap_or(ErrorKind::Environment)
+        .exit_code()
+}
+
+/// The kind of one error of a chain, when it is one of the library's
+/// classified errors, the command line's own [`BadInput`], a script error or
+/// a file-system error ([`io_kind`]).
+fn kind_of(cause: &(dyn std::error::Error + 'static)) -> Option<ErrorKind> {
+    type Classifier = fn(&(dyn std::error::Error + 'static)) -> Option<ErrorKind>;
+    const CLASSIFIERS: &[Classifier] = &[
+        as_kind::<BadInput>,
+        as_kind::<yawdyn::params::ParamError>,
+        as_kind::<yawdyn::params::ParamIssue>,
+        as_kind::<yawdyn::results::ResultsError>,
+        as_kind::<yawdyn::sim::SimError>,
+        as_kind::<yawdyn::sweep::SweepError>,
+        as_kind::<yawdyn::check::CheckError>,
+        as_kind::<yawdyn::stability::StabilityError>,
+        as_kind::<yawdyn::stability::map::MapError>,
+        as_kind::<yawdyn::plot::PlotError>,
+        as_kind::<yawdyn::plot::figures::FigureError>,
+        as_kind::<yawdyn::analysis::AnalysisError>,
+        as_kind::<yawdyn::manoeuvre::SignalError>,
+        as_kind::<yawdyn::manoeuvre::driver::DriverError>,
+        as_kind::<yawdyn::script::ScriptError>,
+        as_kind::<yawdyn::quasi_static::QuasiStaticError>,
+        as_kind::<yawdyn::tyre::inspect::InspectError>,
+        as_kind::<yawdyn::assets::AssetError>,
+        |e| e.downcast_ref::<std::io::Error>().map(io_kind),
+    ];
+    CLASSIFIERS.iter().find_map(|classify| classify(cause))
+}
+
+/// The kind of `cause` when it is an `E`.
+fn as_kind<E: Classify + std::error::Error + 'static>(
+    cause: &(dyn std::error::Error + 'static),
+) -> Option<ErrorKind> {
+    cause.downcast_ref::<E>().map(Classify::kind)
 }
 
 /// yawdyn — vehicle-handling simulation for chassis and vehicle-dynamics engineers.
-///
-/// Exit codes: 0 success; 1 a run, criterion or check failed; 2 bad input.
 #[derive(Debug, Parser)]
 #[command(
     name = "yawdyn",
     version = version(),
     about,
     long_about = None,
-    after_help = "Exit codes: 0 success; 1 a run, criterion or regression check failed (or no trim exists); 2 bad input (options, vehicle file, script)."
+    after_help = yawdyn::error::exit_codes_help()
 )]
 pub struct Cli {
     #[command(subcommand)]
@@ -128,14 +154,12 @@ enum Command {
     /// Trim in steady cornering, linearise and report eigenvalues, modes and stability (or a map with --vary).
     Stability(stability::Args),
     /// Run a manoeuvre script and write the results file (HDF5).
-    ///
-    /// Exit codes: 0 success; 1 the run or a criterion failed; 2 bad input.
     Run(run::Args),
     /// Print the summary of a results file.
     Show(show::Args),
     /// Run a script over a grid of vehicle parameters, in parallel, into one sweep file.
     ///
-    /// Exit codes: 0 every case completed and passed; 1 a case failed; 2 bad input.
+    /// Exits 1 when any case did not complete and pass (the file is written).
     Sweep(sweep::Args),
     /// Join the shard files of one sweep into the file an unsharded run gives.
     Merge(merge::Args),
@@ -202,8 +226,6 @@ pub fn run() -> anyhow::Result<Outcome> {
 /// Parses `--set key=value` options into overrides (bad input on error).
 pub fn parse_overrides(sets: &[String]) -> anyhow::Result<Vec<yawdyn::params::Override>> {
     sets.iter()
-        .map(|s| {
-            yawdyn::params::Override::parse(s).map_err(|e| bad_input(format!("--set {s}: {e}")))
-        })
+        .map(|s| yawdyn::params::Override::parse(s).with_context(|| format!("--set {s}")))
         .collect()
 }

@@ -10,14 +10,14 @@
 //! a varied parameter, one line per value of the others (`--metric`, `--by`).
 //!
 //! Exit 0 when the plot was written; 2 for bad input (unreadable file,
-//! unknown channel, kind that does not fit the file).
+//! unknown channel, kind that does not fit the file, unwritable output).
 
 use std::path::{Path, PathBuf};
 
 use yawdyn::analysis::bicycle::STANDARD_GRAVITY;
 use yawdyn::plot::figures::{
-    FigureError, HandlingMethod, axis_label, channel_data, closest_names, engineering_unit,
-    file_format, handling_data, stored_vehicle, sweep_lines,
+    HandlingMethod, axis_label, channel_data, closest_names, engineering_unit, file_format,
+    handling_data, stored_vehicle, sweep_lines,
 };
 use yawdyn::plot::{Axis, Series, gg, handling_diagram, lines_with_markers, stacked};
 use yawdyn::results::{FORMAT_NAME, RunRecord, read_hdf5};
@@ -90,13 +90,9 @@ pub struct Args {
     from: Option<f64>,
 }
 
-fn figure_error(e: FigureError) -> anyhow::Error {
-    bad_input(e.to_string())
-}
-
 /// Runs `yawdyn plot`.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
-    let format = file_format(&args.file).map_err(figure_error)?;
+    let format = file_format(&args.file)?;
     let out = args
         .out
         .clone()
@@ -112,7 +108,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
             )));
         }
     }
-    let record = read_hdf5(&args.file).map_err(|e| bad_input(e.to_string()))?;
+    let record = read_hdf5(&args.file)?;
     let kind = match args.kind {
         Kind::Auto if record.provenance.script_path.contains("circle") => Kind::Handling,
         Kind::Auto if args.x.is_some() => Kind::Xy,
@@ -170,7 +166,7 @@ fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
             "stability maps are plotted as {MAP_METRIC}; --metric {metric} is not available"
         )));
     }
-    let map = yawdyn::stability::read_map(&args.file).map_err(|e| bad_input(e.to_string()))?;
+    let map = yawdyn::stability::read_map(&args.file)?;
     if map.axes.is_empty() || map.points.is_empty() {
         return Err(bad_input(format!(
             "{}: the stability map has no points",
@@ -213,7 +209,7 @@ fn sweep(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
             args.file.display()
         )));
     }
-    let file = yawdyn::sweep::read_sweep(&args.file).map_err(|e| bad_input(e.to_string()))?;
+    let file = yawdyn::sweep::read_sweep(&args.file)?;
     let summary = &file.summary;
     let keys: Vec<&str> = summary.parameters.iter().map(|(k, _)| k.as_str()).collect();
     let names: Vec<&str> = summary.metrics.iter().map(|m| m.name.as_str()).collect();
@@ -295,7 +291,7 @@ fn title_of(file: &Path, record: &RunRecord) -> String {
 
 /// A channel's samples in display units, with its axis title.
 fn display_channel(record: &RunRecord, name: &str) -> anyhow::Result<(Vec<f64>, String)> {
-    let data = channel_data(record, name).map_err(figure_error)?;
+    let data = channel_data(record, name)?;
     let unit = record.channel(name).map_or("", |c| c.unit.as_str());
     let eng = engineering_unit(unit);
     Ok((
@@ -330,7 +326,7 @@ fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyh
             "--fit-max-g must be finite and positive, got {fit_max_g}"
         )));
     }
-    let data = handling_data(record, fit_max_g * STANDARD_GRAVITY).map_err(figure_error)?;
+    let data = handling_data(record, fit_max_g * STANDARD_GRAVITY)?;
     let fit = data.fit;
     let method = match data.method {
         HandlingMethod::ConstantRadius { radius_m } => {
@@ -356,16 +352,8 @@ fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyh
 
 fn friction_usage(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
     let g = STANDARD_GRAVITY;
-    let ax: Vec<f64> = channel_data(record, "ax")
-        .map_err(figure_error)?
-        .iter()
-        .map(|a| a / g)
-        .collect();
-    let ay: Vec<f64> = channel_data(record, "ay")
-        .map_err(figure_error)?
-        .iter()
-        .map(|a| a / g)
-        .collect();
+    let ax: Vec<f64> = channel_data(record, "ax")?.iter().map(|a| a / g).collect();
+    let ay: Vec<f64> = channel_data(record, "ay")?.iter().map(|a| a / g).collect();
     // Reference circle at the road friction of the stored vehicle, if any.
     let mu = stored_vehicle(record)
         .ok()

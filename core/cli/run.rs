@@ -17,11 +17,7 @@ use super::{Outcome, parse_overrides};
 /// Arguments of `yawdyn run`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "Exit codes: 0 the run completed and every criterion passed; \
-1 the run failed (the integration diverged, a run_until with fail_on_timeout or the \
-600 s limit was reached, or evaluate(ch) raised an error) or a criterion failed; \
-2 bad input (options, vehicle file, script error before the simulation ran). The results \
-file is written whenever the run produced data, also when it failed (status `failed`)."
+    after_help = "The results file is written whenever the run produced data, also when it failed."
 )]
 pub struct Args {
     /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai, or the name of a
@@ -56,6 +52,10 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         .out
         .clone()
         .unwrap_or_else(|| default_out(&args.script));
+    results::check_output_path(&out)?;
+    if let Some(csv) = &args.csv {
+        results::check_output_path(csv)?;
+    }
     let bar = progress_bar(args.quiet);
     let options = RunOptions {
         vehicle: args.vehicle.clone(),
@@ -80,12 +80,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     if let Some(bar) = &bar {
         bar.finish_and_clear();
     }
-    // A script error keeps its kind (bad input) to the exit code.
     let record = result?;
-    if let Some(dir) = out.parent().filter(|d| !d.as_os_str().is_empty()) {
-        std::fs::create_dir_all(dir)
-            .with_context(|| format!("cannot create directory {}", dir.display()))?;
-    }
     results::write_hdf5(&record, &out)
         .with_context(|| format!("cannot write results file {}", out.display()))?;
     if let Some(csv) = &args.csv {

@@ -23,7 +23,6 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         return Err(bad_input(format!("no such file: {}", args.file.display())));
     }
     let record = read_hdf5(&args.file)
-        .map_err(|e| bad_input(e.to_string()))
         .with_context(|| format!("cannot read results file {}", args.file.display()))?;
     let text = if args.json {
         format!(

@@ -6,9 +6,11 @@
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
+use anyhow::Context;
 use rayon::prelude::*;
 use serde_json::{Value, json};
 use yawdyn::assets::resolve_vehicle;
+use yawdyn::error::{Classify, ErrorKind};
 use yawdyn::model::WHEEL_NAMES;
 use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle_text};
 use yawdyn::plot::{Axis, HeatMap, heat_map};
@@ -154,7 +156,7 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
             "front_share" => point.front_share = Some(value),
             path => overrides.push(
                 Override::parse(&format!("{path}={value}"))
-                    .map_err(|e| bad_input(format!("--vary {path}: {e}")))?,
+                    .with_context(|| format!("--vary {path}"))?,
             ),
         }
     }
@@ -171,9 +173,7 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
         long_accel: point.long_accel_g * GRAVITY,
         front_share: point.front_share.unwrap_or(vehicle.powertrain.front_share),
     };
-    target
-        .validate(&vehicle)
-        .map_err(|e| bad_input(e.to_string()))?;
+    target.validate(&vehicle)?;
     Ok(Case { vehicle, target })
 }
 
@@ -181,12 +181,8 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
 pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     args.vehicle = resolve_vehicle(&args.vehicle)?;
     let overrides = parse_overrides(&args.sets)?;
-    let text = std::fs::read_to_string(&args.vehicle).map_err(|e| {
-        bad_input(format!(
-            "cannot read vehicle file {}: {e}",
-            args.vehicle.display()
-        ))
-    })?;
+    let text = std::fs::read_to_string(&args.vehicle)
+        .with_context(|| format!("cannot read vehicle file {}", args.vehicle.display()))?;
     let inputs = Inputs {
         text: &text,
         path: &args.vehicle,
@@ -229,7 +225,7 @@ fn single(args: &Args, case: &Case) -> anyhow::Result<Outcome> {
     let elapsed = started.elapsed().as_secs_f64();
     let report = match result {
         Ok(r) => r,
-        Err(e) if e.is_bad_input() => return Err(bad_input(e.to_string())),
+        Err(e) if e.kind() == ErrorKind::BadInput => return Err(e.into()),
         Err(e) => {
             let largest = match &e {
                 StabilityError::NoTrim {
@@ -479,6 +475,10 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
 }
 
 fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow::Result<Outcome> {
+    // Output paths are checked before the grid is computed.
+    for out in [&args.out, &args.plot].into_iter().flatten() {
+        yawdyn::results::check_output_path(out)?;
+    }
     let n0 = vary[0].values.len();
     let n1 = vary.get(1).map_or(1, |a| a.values.len());
     let mut cases = Vec::with_capacity(n0 * n1);
@@ -500,9 +500,9 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
     let elapsed = started.elapsed().as_secs_f64();
     if let Some(Err(e)) = results
         .iter()
-        .find(|r| matches!(r, Err(e) if e.is_bad_input()))
+        .find(|r| matches!(r, Err(e) if e.kind() == ErrorKind::BadInput))
     {
-        return Err(bad_input(e.to_string()));
+        return Err(e.clone().into());
     }
     let points: Vec<MapPoint> = results.iter().map(MapPoint::from_result).collect();
     let describe = |key: &str| match key {

@@ -5,13 +5,14 @@
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
+use anyhow::Context;
 use indicatif::{ProgressBar, ProgressStyle};
 use yawdyn::assets::{resolve_script, resolve_vehicle};
 use yawdyn::params::{Override, ParamError};
 use yawdyn::results::RunRecord;
 use yawdyn::script::{RunOptions, ScriptError, check_manoeuvre_keys, run_script};
 use yawdyn::sweep::{
-    CaseStatus, Grid, Shard, SweepError, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
+    CaseStatus, Grid, Shard, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
 };
 use yawdyn::table::{Table, fmt_num};
 
@@ -84,6 +85,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         &config.script,
         keys.iter().map(String::as_str).chain(sets),
     )?;
+    yawdyn::results::check_output_path(&config.out)?;
     preflight(&config)?;
     let runner = script_case_runner(&config.script, config.vehicle.as_deref());
 
@@ -105,7 +107,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         shard: config.shard,
         progress: Some(&tick),
     };
-    let report = run_sweep(&config.spec, &options, &runner, &config.out).map_err(sweep_error)?;
+    let report = run_sweep(&config.spec, &options, &runner, &config.out)?;
     bar.finish_and_clear();
     print_report(&config, &report);
     Ok(if report.failed() == 0 {
@@ -124,12 +126,11 @@ fn check(args: Args) -> anyhow::Result<Config> {
         .vary
         .iter()
         .map(|text| VaryAxis::parse(text))
-        .collect::<Result<Vec<_>, _>>()
-        .map_err(sweep_error)?;
-    let grid = Grid::new(axes).map_err(sweep_error)?;
+        .collect::<Result<Vec<_>, _>>()?;
+    let grid = Grid::new(axes)?;
     let base_overrides = parse_overrides(&args.sets)?;
     let shard = match &args.shard {
-        Some(text) => Shard::parse(text).map_err(sweep_error)?,
+        Some(text) => Shard::parse(text)?,
         None => Shard::WHOLE,
     };
     let jobs = match args.jobs {
@@ -148,7 +149,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
         None => None,
     };
     let script_text = std::fs::read_to_string(&args.script)
-        .map_err(|e| bad_input(format!("cannot read script {}: {e}", args.script.display())))?;
+        .with_context(|| format!("cannot read script {}", args.script.display()))?;
     if let Some(vehicle) = &args.vehicle
         && !vehicle.is_file()
     {
@@ -258,7 +259,7 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
             | ScriptError::Vehicle {
                 source: ParamError::Read { .. },
             }),
-        ) => Err(bad_input(with_causes(&e))),
+        ) => Err(e.into()),
         Err(ScriptError::Vehicle {
             source: ParamError::Invalid { issues, .. },
         }) if issues.iter().any(|i| is_key_problem(config, i)) => {
@@ -289,15 +290,6 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
 fn is_key_problem(config: &Config, issue: &yawdyn::params::ParamIssue) -> bool {
     issue.message.contains("unknown key")
         || (issue.message.contains("wrong type") && config.spec.grid.keys().contains(&issue.path))
-}
-
-/// Maps a sweep error to exit code 2 when it is the user's input.
-fn sweep_error(e: SweepError) -> anyhow::Error {
-    if e.is_bad_input() {
-        bad_input(e.to_string())
-    } else {
-        anyhow::Error::new(e)
-    }
 }
 
 /// Prints the summary table (parameters × metrics × status) and the totals.
@@ -365,9 +357,10 @@ fn print_report(config: &Config, report: &SweepReport) {
         count(CaseStatus::Error)
     );
     println!(
-        "wall time: {} s on {} threads; written to {}",
+        "wall time: {} s on {} threads (writing {} s CPU); written to {}",
         fmt_num(report.wall_time_s, 3),
         config.jobs,
+        fmt_num(report.writer_cpu_s, 3),
         report.out.display()
     );
 }

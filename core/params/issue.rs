@@ -62,3 +62,20 @@ fn list(issues: &[ParamIssue]) -> String {
         .collect::<Vec<_>>()
         .join("\n")
 }
+
+impl std::error::Error for ParamIssue {}
+
+impl crate::error::Classify for ParamIssue {
+    /// A problem in a vehicle file or override is bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        crate::error::ErrorKind::BadInput
+    }
+}
+
+impl crate::error::Classify for ParamError {
+    /// A vehicle file that cannot be read (missing, not permitted) or has
+    /// problems is bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        crate::error::ErrorKind::BadInput
+    }
+}

@@ -91,6 +91,13 @@ pub enum FigureError {
     NoFit(String),
 }
 
+impl crate::error::Classify for FigureError {
+    /// The file or its data do not fit the figure asked for: bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        crate::error::ErrorKind::BadInput
+    }
+}
+
 /// The root `format` attribute of an HDF5 file (`yawdyn-results`,
 /// `yawdyn-sweep`, `yawdyn-stability-map`, ...), read without reading the rest.
 pub fn file_format(path: &Path) -> Result<String, FigureError> {

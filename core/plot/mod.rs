@@ -156,6 +156,23 @@ pub enum PlotError {
     },
 }
 
+impl crate::error::Classify for PlotError {
+    /// The plot file by its file-system cause (a missing or read-only
+    /// directory, a directory as the file: bad input); data that cannot be
+    /// drawn is bad input; a refusal of the drawing library is a failure.
+    fn kind(&self) -> crate::error::ErrorKind {
+        use crate::error::ErrorKind;
+        match self {
+            PlotError::Io { source, .. } => crate::error::io_kind(source),
+            PlotError::Draw { .. } => ErrorKind::Failed,
+            PlotError::Empty { .. }
+            | PlotError::NonFinite { .. }
+            | PlotError::LengthMismatch { .. }
+            | PlotError::InvalidValue { .. } => ErrorKind::BadInput,
+        }
+    }
+}
+
 impl PlotError {
     pub(crate) fn empty(path: &Path, what: impl Into<String>) -> Self {
         PlotError::Empty {

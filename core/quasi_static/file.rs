@@ -82,7 +82,7 @@ pub fn write_yaw_moment(
         }));
     };
     write_atomically(path, |temp| {
-        let ctx = H5Context::new(path, TrackTimes::On);
+        let ctx = H5Context::writer(path, TrackTimes::On);
         let file = ctx.create_file(temp)?;
         let root: &Group = &file;
         stamp(&ctx, root, YAW_MOMENT_FORMAT, info)?;
@@ -129,7 +129,7 @@ pub fn write_envelope(
         }));
     };
     write_atomically(path, |temp| {
-        let ctx = H5Context::new(path, TrackTimes::On);
+        let ctx = H5Context::writer(path, TrackTimes::On);
         let file = ctx.create_file(temp)?;
         let root: &Group = &file;
         stamp(&ctx, root, ENVELOPE_FORMAT, info)?;
@@ -355,7 +355,7 @@ fn summary(ctx: &H5Context, root: &Group, diagrams: &[YawMomentDiagram]) -> Resu
 /// Reads the root `format` attribute of an HDF5 file (for tests and tools
 /// that dispatch on the file kind).
 pub fn file_format(path: &Path) -> Result<String, ResultsError> {
-    let ctx = H5Context::new(path, TrackTimes::On);
+    let ctx = H5Context::reader(path);
     let file: File = ctx.open_file()?;
     Ok(ctx.read_attr_str(&file, "format")?)
 }

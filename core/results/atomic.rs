@@ -36,13 +36,48 @@ fn parent_dir(path: &Path) -> &Path {
     }
 }
 
-/// Create the parent directories of `path`, let `write` fill a temporary file
-/// beside it, flush that file to disk and rename it over `path`. On any error
-/// the temporary file is removed and `path` is left as it was.
-pub(crate) fn write_atomically<F>(path: &Path, write: F) -> Result<(), ResultsError>
-where
-    F: FnOnce(&Path) -> Result<(), ResultsError>,
-{
+/// Refuses an output path that is a directory, or whose directory has a
+/// regular file among its ancestors (so it cannot be created).
+fn refuse_impossible_output(path: &Path) -> Result<(), ResultsError> {
+    if path.is_dir() {
+        return Err(ResultsError::Io {
+            path: path.to_path_buf(),
+            action: "the output path is a directory; give a file name".to_string(),
+            source: std::io::Error::from(std::io::ErrorKind::IsADirectory),
+        });
+    }
+    let dir = parent_dir(path);
+    if let Some(file) = dir.ancestors().find(|d| d.is_file()) {
+        return Err(ResultsError::Io {
+            path: file.to_path_buf(),
+            action: format!("is a file, so {} cannot be created", dir.display()),
+            source: std::io::Error::from(std::io::ErrorKind::NotADirectory),
+        });
+    }
+    Ok(())
+}
+
+/// Creates the new, empty temporary file `temp` in `dir`.
+fn create_temp(dir: &Path, temp: &Path) -> Result<(), ResultsError> {
+    fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(temp)
+        .map(drop)
+        .map_err(|source| ResultsError::Io {
+            path: dir.to_path_buf(),
+            action: "creating a file in the output directory".to_string(),
+            source,
+        })
+}
+
+/// Makes ready to write `path`: refuses a path that is a directory, creates
+/// the parent directories and creates the (empty) temporary file beside it,
+/// whose name it returns. Every problem with the path the user gave (a
+/// read-only or uncreatable directory, a directory where the file should be)
+/// is a [`ResultsError::Io`] naming it, of kind bad input.
+pub(crate) fn prepare_output(path: &Path) -> Result<PathBuf, ResultsError> {
+    refuse_impossible_output(path)?;
     let dir = parent_dir(path);
     fs::create_dir_all(dir).map_err(|source| ResultsError::Io {
         path: dir.to_path_buf(),
@@ -50,15 +85,54 @@ where
         source,
     })?;
     let temp = temp_path_for(path)?;
-    let result = write(&temp).and_then(|()| sync_file(&temp)).and_then(|()| {
-        fs::rename(&temp, path).map_err(|source| ResultsError::Io {
-            path: path.to_path_buf(),
-            action: format!("renaming {} to the final name", temp.display()),
-            source,
-        })
-    });
+    create_temp(dir, &temp)?;
+    Ok(temp)
+}
+
+/// Checks, before a long computation, that `path` can be written, leaving
+/// nothing behind: it is not a directory, no ancestor of its directory is a
+/// file, and a file can be created in its directory (or, when that does not
+/// exist yet, in the nearest existing ancestor, where it will be created).
+///
+/// ```no_run
+/// yawdyn::results::check_output_path(std::path::Path::new("results/run.h5"))?;
+/// # Ok::<(), yawdyn::results::ResultsError>(())
+/// ```
+pub fn check_output_path(path: &Path) -> Result<(), ResultsError> {
+    refuse_impossible_output(path)?;
+    let dir = parent_dir(path);
+    let existing = dir
+        .ancestors()
+        .find(|d| d.is_dir())
+        .unwrap_or(Path::new("."));
+    let probe = temp_path_for(&existing.join("probe"))?;
+    create_temp(existing, &probe)?;
+    let _ = fs::remove_file(&probe);
+    Ok(())
+}
+
+/// Renames the finished temporary file `temp` over `path`, after flushing it
+/// to the storage device.
+pub(crate) fn commit_output(temp: &Path, path: &Path) -> Result<(), ResultsError> {
+    sync_file(temp)?;
+    fs::rename(temp, path).map_err(|source| ResultsError::Io {
+        path: path.to_path_buf(),
+        action: format!("renaming {} to the final name", temp.display()),
+        source,
+    })
+}
+
+/// Create the parent directories of `path`, let `write` fill a temporary file
+/// beside it, flush that file to disk and rename it over `path`. On any error
+/// the temporary file is removed and `path` is left as it was.
+pub(crate) fn write_atomically<F>(path: &Path, write: F) -> Result<(), ResultsError>
+where
+    F: FnOnce(&Path) -> Result<(), ResultsError>,
+{
+    let temp = prepare_output(path)?;
+    let result = write(&temp).and_then(|()| commit_output(&temp, path));
     if result.is_err() {
-        // Best effort: the temporary file may not exist if `write` failed early.
+        // Best effort: the temporary file may already be gone.
         let _ = fs::remove_file(&temp);
     }
     result
@@ -122,5 +196,28 @@ mod tests {
         .unwrap();
         assert_eq!(fs::read_to_string(&target).unwrap(), "new");
         assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+}
+
+#[cfg(test)]
+mod output_path_tests {
+    use super::*;
+    use crate::error::{Classify, ErrorKind};
+
+    #[test]
+    fn a_directory_or_a_file_as_parent_is_bad_input_and_leaves_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let err = check_output_path(dir.path()).unwrap_err();
+        assert_eq!(err.kind(), ErrorKind::BadInput, "{err}");
+        let file = dir.path().join("plain");
+        fs::write(&file, "x").unwrap();
+        let err = check_output_path(&file.join("out.h5")).unwrap_err();
+        assert_eq!(err.kind(), ErrorKind::BadInput, "{err}");
+        check_output_path(&dir.path().join("new/deeper/out.h5")).unwrap();
+        assert_eq!(
+            fs::read_dir(dir.path()).unwrap().count(),
+            1,
+            "left something behind"
+        );
     }
 }

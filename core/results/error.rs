@@ -4,6 +4,29 @@ use std::path::PathBuf;
 
 use thiserror::Error;
 
+use crate::error::{Classify, ErrorKind, io_kind};
+
+/// Whether an HDF5 failure happened while reading a file or while writing one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Access {
+    /// Reading a file the user named: a failure means the file is missing,
+    /// not HDF5, damaged or not laid out as expected (bad input).
+    Read,
+    /// Writing an output file whose directory and temporary file were already
+    /// created: a failure is the machine's (disk full, I/O error).
+    Write,
+}
+
+impl Access {
+    /// The kind of an HDF5 failure during this access.
+    pub fn kind(self) -> ErrorKind {
+        match self {
+            Access::Read => ErrorKind::BadInput,
+            Access::Write => ErrorKind::Environment,
+        }
+    }
+}
+
 /// What went wrong reading or writing a results file; always names the file.
 #[derive(Debug, Error)]
 pub enum ResultsError {
@@ -26,6 +49,8 @@ pub enum ResultsError {
         path: PathBuf,
         /// What was being done, e.g. `reading dataset /channels/yaw_rate`.
         action: String,
+        /// Reading or writing.
+        access: Access,
         /// The HDF5 error.
         #[source]
         source: hdf5::Error,
@@ -60,4 +85,21 @@ pub enum ResultsError {
         /// What is inconsistent.
         reason: String,
     },
+}
+
+impl Classify for ResultsError {
+    /// File-system errors by their cause ([`io_kind`]: path problems are bad
+    /// input, a full disk is the environment); HDF5 errors by [`Access`]; a
+    /// file that is not a results file, of an unknown version, or with
+    /// contents that do not fit together is bad input, as is a record whose
+    /// names cannot be stored.
+    fn kind(&self) -> ErrorKind {
+        match self {
+            ResultsError::Io { source, .. } => io_kind(source),
+            ResultsError::Hdf5 { access, .. } => access.kind(),
+            ResultsError::NotResultsFile { .. }
+            | ResultsError::UnsupportedVersion { .. }
+            | ResultsError::Invalid { .. } => ErrorKind::BadInput,
+        }
+    }
 }

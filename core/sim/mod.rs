@@ -250,6 +250,17 @@ impl SimError {
     }
 }
 
+impl crate::error::Classify for SimError {
+    /// A run that diverged or that the solver gave up on failed; settings that
+    /// make no sense are bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        match self {
+            Self::NonFinite { .. } | Self::Solver { .. } => crate::error::ErrorKind::Failed,
+            Self::Settings(_) => crate::error::ErrorKind::BadInput,
+        }
+    }
+}
+
 /// A vehicle handed to a [`Simulation`]: a reference (copied once) or a shared `Arc`.
 pub trait SharedVehicle {
     /// The vehicle as a shared pointer.

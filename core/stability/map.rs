@@ -139,6 +139,19 @@ struct Ctx<'a> {
     path: &'a Path,
 }
 
+impl crate::error::Classify for MapError {
+    /// File-system errors by their cause ([`crate::error::io_kind`]); an
+    /// inconsistent map or an HDF5 failure is bad input (the output
+    /// directory and temporary file are created before HDF5 writes, so HDF5
+    /// failures come from reading a file that is not a readable map).
+    fn kind(&self) -> crate::error::ErrorKind {
+        match self {
+            MapError::Io { source, .. } => crate::error::io_kind(source),
+            MapError::Hdf5 { .. } | MapError::Invalid { .. } => crate::error::ErrorKind::BadInput,
+        }
+    }
+}
+
 impl Ctx<'_> {
     fn h5(&self, action: impl Into<String>) -> impl FnOnce(hdf5::Error) -> MapError + '_ {
         let action = action.into();

@@ -91,6 +91,17 @@ impl StabilityError {
     }
 }
 
+impl crate::error::Classify for StabilityError {
+    /// No trim is a property of the vehicle (the analysis failed); an
+    /// invalid target or a split that drives no axle is bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        match self {
+            StabilityError::NoTrim { .. } => crate::error::ErrorKind::Failed,
+            _ => crate::error::ErrorKind::BadInput,
+        }
+    }
+}
+
 /// One eigenvalue, 1/s.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Eigenvalue {

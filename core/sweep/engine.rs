@@ -1,15 +1,25 @@
 //! The parallel sweep engine and the shard merge.
+//!
+//! ```text
+//! workers (jobs threads)                      calling thread (writer)
+//!   loop:                                       for each finished case:
+//!     i = next index, if i < written + window     hold it until its turn
+//!     case = run_case(i)  (panics caught)         write cases in index order
+//!     send case ──────────────────────────────▶   written = i + 1, wake workers
+//! ```
 
+use std::collections::BTreeMap;
 use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::{Path, PathBuf};
+use std::sync::mpsc;
+use std::sync::{Condvar, Mutex, MutexGuard};
 use std::time::Instant;
-
-use rayon::prelude::*;
 
 use crate::params::Override;
 use crate::results::{RunRecord, RunStatus};
 
-use super::file::{Stamp, SweepWriter, for_each_case, read_sweep};
+use super::reader::{SweepFile, for_each_case, read_sweep};
+use super::writer::{Stamp, SweepWriter};
 use super::{CaseStatus, Shard, Summary, SweepCase, SweepError, SweepSpec};
 
 /// A case runner: runs one case with the given overrides (base `--set`s, then
@@ -20,7 +30,8 @@ pub type CaseRunner<'a> = dyn Fn(&[Override]) -> Result<RunRecord, String> + Syn
 
 /// How to run a sweep.
 pub struct SweepOptions<'a> {
-    /// Worker threads, ≥ 1 (the pool has exactly this many).
+    /// Worker threads, ≥ 1 (exactly this many, or the number of cases when
+    /// that is smaller).
     pub jobs: usize,
     /// Which slice of the case list to run ([`Shard::WHOLE`] for all).
     pub shard: Shard,
@@ -37,6 +48,11 @@ pub struct SweepReport {
     pub summary: Summary,
     /// Wall-clock time of the whole sweep, s.
     pub wall_time_s: f64,
+    /// CPU time of the calling thread from the first case handed out to the
+    /// closed file, s: writing, ordering and handing out cases, the sweep's
+    /// serial share (for a merge: reading the shards and writing). NaN where
+    /// the platform does not tell it.
+    pub writer_cpu_s: f64,
 }
 
 impl SweepReport {
@@ -50,14 +66,16 @@ impl SweepReport {
     }
 }
 
-/// Cases in flight per worker thread: each chunk holds `CHUNK_PER_JOB × jobs` cases.
-const CHUNK_PER_JOB: usize = 4;
+/// Cases a worker may run ahead of the next case to be written, per worker
+/// thread: bounds the finished cases held in memory to `IN_FLIGHT_PER_JOB × jobs`.
+const IN_FLIGHT_PER_JOB: usize = 4;
 
 /// Runs the cases of `options.shard` of `spec` with `runner` on `options.jobs`
 /// threads and writes the sweep file `out` (see the [module
 /// documentation](crate::sweep) for order and layout). Case failures are
 /// recorded, not returned; `Err` means the sweep itself could not be done
-/// (bad options, file errors).
+/// (bad options, an unwritable output path, file errors). The output path is
+/// checked before any case runs.
 ///
 /// ```no_run
 /// use yawdyn::sweep::{Grid, Shard, SweepOptions, SweepSpec, VaryAxis, run_sweep};
@@ -85,10 +103,7 @@ pub fn run_sweep(
     if options.jobs == 0 {
         return Err(SweepError::Option("--jobs must be at least 1".to_string()));
     }
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(options.jobs)
-        .build()
-        .map_err(|e| SweepError::Option(format!("cannot start {} threads: {e}", options.jobs)))?;
+    // The output file first: a bad output path costs no case.
     let created = utc_now();
     let version = yawdyn_version();
     let stamp = Stamp {
@@ -97,66 +112,246 @@ pub fn run_sweep(
         shard: options.shard,
     };
     let mut writer = SweepWriter::create(out, spec, &stamp)?;
+    // Workers run the cases; this thread writes them in index order.
     let range = options.shard.range(spec.grid.len());
-    let chunk = CHUNK_PER_JOB * options.jobs;
-    let compute = |first: usize, last: usize| -> Vec<SweepCase> {
-        pool.install(|| {
-            (first..last)
-                .into_par_iter()
-                .map(|index| {
-                    let case = run_case(spec, runner, index);
-                    if let Some(progress) = options.progress {
-                        progress();
-                    }
-                    case
-                })
-                .collect()
-        })
+    let queue = CaseQueue::new(range.clone(), IN_FLIGHT_PER_JOB * options.jobs);
+    let threads = options.jobs.min(range.len());
+    let cpu_at_start = thread_cpu_time_s();
+    let workers = Workers {
+        spec,
+        runner,
+        options,
+        queue: &queue,
     };
-    // Pipeline: while the pool computes chunk k+1, this thread writes chunk k
-    // (in case-index order), so at most two chunks are in memory and the
-    // workers do not wait for the file.
-    let mut written: Vec<SweepCase> = Vec::new();
-    let mut first = range.start;
-    while first < range.end {
-        let last = (first + chunk).min(range.end);
-        let done = std::mem::take(&mut written);
-        let (next, wrote) = std::thread::scope(|scope| {
-            let worker = scope.spawn(|| compute(first, last));
-            let wrote = done.iter().try_for_each(|case| writer.write_case(case));
-            (worker.join(), wrote)
-        });
-        wrote?;
-        written = next.map_err(|_| SweepError::Option("a sweep worker thread panicked".into()))?;
-        first = last;
-    }
-    for case in &written {
-        writer.write_case(case)?;
-    }
+    std::thread::scope(|scope| -> Result<(), SweepError> {
+        let (tx, rx) = mpsc::channel::<SweepCase>();
+        let handles = workers.spawn(scope, threads, &tx)?;
+        drop(tx);
+        let written = write_in_order(&rx, &mut writer, &queue, range.start);
+        queue.stop();
+        drop(rx);
+        for handle in handles {
+            // A worker's panic is reported as the lost case below.
+            let _ = handle.join();
+        }
+        match written? {
+            next if next < range.end => Err(SweepError::Worker { index: next }),
+            _ => Ok(()),
+        }
+    })?;
+    // The last block, then the file under its final name.
     let summary = writer.finish()?;
     Ok(SweepReport {
         out: out.to_path_buf(),
         summary,
         wall_time_s: started.elapsed().as_secs_f64(),
+        writer_cpu_s: thread_cpu_time_s() - cpu_at_start,
     })
+}
+
+/// What every worker thread shares.
+struct Workers<'a> {
+    spec: &'a SweepSpec,
+    runner: &'a CaseRunner<'a>,
+    options: &'a SweepOptions<'a>,
+    queue: &'a CaseQueue,
+}
+
+impl<'a> Workers<'a> {
+    /// Starts `threads` workers that run the cases the queue hands out and
+    /// send them on `tx`. On failure the queue is stopped (the workers
+    /// already started then end) and the error returned.
+    fn spawn<'scope>(
+        &'scope self,
+        scope: &'scope std::thread::Scope<'scope, '_>,
+        threads: usize,
+        tx: &mpsc::Sender<SweepCase>,
+    ) -> Result<Vec<std::thread::ScopedJoinHandle<'scope, ()>>, SweepError>
+    where
+        'a: 'scope,
+    {
+        let mut handles = Vec::with_capacity(threads);
+        for n in 0..threads {
+            let tx = tx.clone();
+            let spawned = std::thread::Builder::new()
+                .name(format!("sweep-worker-{n}"))
+                .spawn_scoped(scope, move || self.work(&tx));
+            match spawned {
+                Ok(handle) => handles.push(handle),
+                Err(source) => {
+                    self.queue.stop();
+                    return Err(SweepError::Threads {
+                        jobs: self.options.jobs,
+                        source,
+                    });
+                }
+            }
+        }
+        Ok(handles)
+    }
+
+    /// One worker: runs cases (panics caught and recorded) until the queue
+    /// is empty or stopped, or the writer has gone.
+    fn work(&self, tx: &mpsc::Sender<SweepCase>) {
+        let _stop_on_panic = StopOnPanic(self.queue);
+        while let Some(index) = self.queue.take() {
+            let case = catch_unwind(AssertUnwindSafe(|| run_case(self.spec, self.runner, index)))
+                .unwrap_or_else(|panic| {
+                    let message = format!("the case panicked: {}", panic_text(&panic));
+                    error_case(self.spec, index, message)
+                });
+            if let Some(progress) = self.options.progress {
+                progress();
+            }
+            if tx.send(case).is_err() {
+                break;
+            }
+        }
+    }
+}
+
+/// Receives finished cases and writes them in index order from `first`;
+/// returns the index after the last one written (the loop ends when every
+/// worker has stopped).
+fn write_in_order(
+    rx: &mpsc::Receiver<SweepCase>,
+    writer: &mut SweepWriter,
+    queue: &CaseQueue,
+    first: usize,
+) -> Result<usize, SweepError> {
+    let mut waiting = BTreeMap::new();
+    let mut next = first;
+    for case in rx {
+        waiting.insert(case.index, case);
+        while let Some(case) = waiting.remove(&next) {
+            writer.write_case(case)?;
+            next += 1;
+            queue.written(next);
+        }
+    }
+    Ok(next)
+}
+
+/// The shared case counter of the workers: hands out case indices in
+/// increasing order, at most `window` ahead of the next case to write.
+struct CaseQueue {
+    state: Mutex<QueueState>,
+    turn: Condvar,
+    end: usize,
+    window: usize,
+}
+
+struct QueueState {
+    /// Next case index to hand out.
+    next: usize,
+    /// Next case index the writer needs.
+    written: usize,
+    /// No more cases are handed out (done, or the writer failed).
+    stopped: bool,
+}
+
+impl CaseQueue {
+    fn new(range: std::ops::Range<usize>, window: usize) -> CaseQueue {
+        CaseQueue {
+            state: Mutex::new(QueueState {
+                next: range.start,
+                written: range.start,
+                stopped: false,
+            }),
+            turn: Condvar::new(),
+            end: range.end,
+            window: window.max(1),
+        }
+    }
+
+    fn lock(&self) -> MutexGuard<'_, QueueState> {
+        self.state.lock().unwrap_or_else(|e| e.into_inner())
+    }
+
+    /// The next case to run, waiting while it is a full window ahead of the
+    /// writer; `None` when every case is handed out or the queue stopped.
+    /// (No deadlock: every case below the next one handed out is already
+    /// held by a worker, so the writer's next case is always on its way.)
+    fn take(&self) -> Option<usize> {
+        let mut state = self.lock();
+        loop {
+            if state.stopped || state.next >= self.end {
+                return None;
+            }
+            if state.next < state.written + self.window {
+                state.next += 1;
+                return Some(state.next - 1);
+            }
+            state = self.turn.wait(state).unwrap_or_else(|e| e.into_inner());
+        }
+    }
+
+    /// The writer has written every case below `next`.
+    fn written(&self, next: usize) {
+        self.lock().written = next;
+        self.turn.notify_all();
+    }
+
+    /// Hands out no more cases and wakes every waiting worker.
+    fn stop(&self) {
+        self.lock().stopped = true;
+        self.turn.notify_all();
+    }
+}
+
+/// Stops the queue when a worker thread unwinds, so that no other worker
+/// waits for its case.
+struct StopOnPanic<'a>(&'a CaseQueue);
+
+impl Drop for StopOnPanic<'_> {
+    fn drop(&mut self) {
+        if std::thread::panicking() {
+            self.0.stop();
+        }
+    }
+}
+
+/// CPU time the calling thread has used, s: the first field (ns on the CPU)
+/// of Linux's `/proc/thread-self/schedstat`; NaN where that is not available.
+fn thread_cpu_time_s() -> f64 {
+    std::fs::read_to_string("/proc/thread-self/schedstat")
+        .ok()
+        .and_then(|text| text.split_whitespace().next()?.parse::<f64>().ok())
+        .map_or(f64::NAN, |ns| ns * 1e-9)
+}
+
+/// The text of a caught panic.
+fn panic_text(panic: &Box<dyn std::any::Any + Send>) -> String {
+    panic
+        .downcast_ref::<&str>()
+        .map(|s| s.to_string())
+        .or_else(|| panic.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "unknown cause".to_string())
+}
+
+/// Case `index` recorded as `error` with `message`.
+fn error_case(spec: &SweepSpec, index: usize, message: String) -> SweepCase {
+    let mut overrides = spec.base_overrides.clone();
+    overrides.extend(spec.grid.overrides(index));
+    SweepCase {
+        index,
+        parameters: spec.grid.values(index),
+        overrides: overrides.iter().map(Override::to_text).collect(),
+        status: CaseStatus::Error,
+        message,
+        failure_time_s: f64::NAN,
+        time: Vec::new(),
+        channels: Vec::new(),
+        metrics: Vec::new(),
+        criteria: Vec::new(),
+    }
 }
 
 /// Runs one case, turning every way it can go wrong into a recorded status.
 fn run_case(spec: &SweepSpec, runner: &CaseRunner<'_>, index: usize) -> SweepCase {
     let mut overrides = spec.base_overrides.clone();
     overrides.extend(spec.grid.overrides(index));
-    let mut case = SweepCase {
-        index,
-        parameters: spec.grid.values(index),
-        overrides: overrides.iter().map(Override::to_text).collect(),
-        status: CaseStatus::Error,
-        message: String::new(),
-        failure_time_s: f64::NAN,
-        time: Vec::new(),
-        channels: Vec::new(),
-        metrics: Vec::new(),
-        criteria: Vec::new(),
-    };
+    let mut case = error_case(spec, index, String::new());
     let record = match catch_unwind(AssertUnwindSafe(|| runner(&overrides))) {
         Ok(Ok(record)) => record,
         Ok(Err(message)) => {
@@ -164,16 +359,11 @@ fn run_case(spec: &SweepSpec, runner: &CaseRunner<'_>, index: usize) -> SweepCas
             return case;
         }
         Err(panic) => {
-            let what = panic
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| panic.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "unknown cause".to_string());
-            case.message = format!("the case runner panicked: {what}");
+            case.message = format!("the case runner panicked: {}", panic_text(&panic));
             return case;
         }
     };
-    if let Err(reason) = record.validate() {
+    if let Err(reason) = record.validate().and_then(|()| storable_criteria(&record)) {
         case.message = format!("the run's record cannot be stored: {reason}");
         return case;
     }
@@ -228,46 +418,81 @@ fn run_case(spec: &SweepSpec, runner: &CaseRunner<'_>, index: usize) -> SweepCas
 /// `SOURCE_DATE_EPOCH` is set).
 ///
 /// Refuses ([`SweepError::Mismatch`]) shards whose script text, vary spec,
-/// base overrides or channel selection differ from the first one's, and sets
-/// of shards in which a case is missing or appears twice; nothing is written
-/// then. Memory holds at most 64 cases (one read batch) at a time.
+/// base overrides, channel selection or stored channels differ from the
+/// first one's, and sets of shards in which a case is missing or appears
+/// twice; nothing is written then. Memory holds one read block of cases at a
+/// time besides the summary.
 pub fn merge_sweeps(out: &Path, shards: &[PathBuf]) -> Result<SweepReport, SweepError> {
     let started = Instant::now();
-    let Some(first_path) = shards.first() else {
+    if shards.is_empty() {
         return Err(SweepError::Option(
             "give at least one shard file".to_string(),
         ));
-    };
+    }
     let mut files = shards
         .iter()
         .map(|p| read_sweep(p))
         .collect::<Result<Vec<_>, _>>()?;
-    let reference = files[0].spec.clone();
+    check_shards_match(&files)?;
+    files.sort_by_key(|f| f.summary.case_index.first().copied().unwrap_or(usize::MAX));
+    check_shards_cover(&files)?;
+    let created = utc_now();
+    let stamp = Stamp {
+        created_utc: &created,
+        yawdyn_version: &files[0].yawdyn_version,
+        shard: Shard::WHOLE,
+    };
+    let cpu_at_start = thread_cpu_time_s();
+    let mut writer = SweepWriter::create(out, &files[0].spec, &stamp)?;
+    for f in &files {
+        for_each_case(f, |case| writer.write_case(case))?;
+    }
+    let summary = writer.finish()?;
+    Ok(SweepReport {
+        out: out.to_path_buf(),
+        summary,
+        wall_time_s: started.elapsed().as_secs_f64(),
+        writer_cpu_s: thread_cpu_time_s() - cpu_at_start,
+    })
+}
+
+/// Refuses shards whose inputs or stored channels differ from the first one's.
+fn check_shards_match(files: &[SweepFile]) -> Result<(), SweepError> {
+    let first = &files[0];
     let base_text = |spec: &SweepSpec| -> Vec<String> {
         spec.base_overrides.iter().map(Override::to_text).collect()
     };
+    let ran = |f: &SweepFile| f.summary.status.iter().any(|&s| s != CaseStatus::Error);
     for f in &files[1..] {
         let mismatch = |what: &str| SweepError::Mismatch {
             path: f.path.clone(),
-            reason: format!("{what} differs from that of {}", first_path.display()),
+            reason: format!("{what} differs from that of {}", first.path.display()),
         };
-        if f.spec.script_text != reference.script_text {
+        if f.spec.script_text != first.spec.script_text {
             return Err(mismatch("the script text"));
         }
-        if f.spec.grid != reference.grid {
+        if f.spec.grid != first.spec.grid {
             return Err(mismatch("the --vary spec"));
         }
-        if base_text(&f.spec) != base_text(&reference) {
+        if base_text(&f.spec) != base_text(&first.spec) {
             return Err(mismatch("the base overrides (--set)"));
         }
-        if f.spec.channels != reference.channels {
+        if f.spec.channels != first.spec.channels {
             return Err(mismatch("the --channels selection"));
         }
+        if ran(f) && ran(first) && f.channel_names() != first.channel_names() {
+            return Err(mismatch("the set of stored channels"));
+        }
     }
-    files.sort_by_key(|f| f.summary.case_index.first().copied().unwrap_or(usize::MAX));
-    let total = reference.grid.len();
+    Ok(())
+}
+
+/// Refuses shards (sorted by first case) in which a case is missing or
+/// appears twice.
+fn check_shards_cover(files: &[SweepFile]) -> Result<(), SweepError> {
+    let total = files[0].case_total;
     let mut expected = 0usize;
-    for f in &files {
+    for f in files {
         for &index in &f.summary.case_index {
             let problem = if index < expected {
                 Some(format!("case {index} appears in more than one shard"))
@@ -291,25 +516,24 @@ pub fn merge_sweeps(out: &Path, shards: &[PathBuf]) -> Result<SweepReport, Sweep
             reason: format!("cases {expected}..{total} are in no shard given"),
         });
     }
-    let created = utc_now();
-    let stamp = Stamp {
-        created_utc: &created,
-        yawdyn_version: &files[0].yawdyn_version,
-        shard: Shard::WHOLE,
-    };
-    let mut spec = reference;
-    spec.script_path = files[0].spec.script_path.clone();
-    spec.vehicle_path = files[0].spec.vehicle_path.clone();
-    let mut writer = SweepWriter::create(out, &spec, &stamp)?;
-    for f in &files {
-        for_each_case(f, |case| writer.write_case(&case))?;
+    Ok(())
+}
+
+/// Criterion names become group names in a sweep file: each must be a plain
+/// word (no `/`, not empty, `.` or `..`) and appear once per run.
+fn storable_criteria(record: &RunRecord) -> Result<(), String> {
+    for (i, c) in record.criteria.iter().enumerate() {
+        let name = c.name.as_str();
+        if name.is_empty() || name == "." || name == ".." || name.contains(['/', '\0']) {
+            return Err(format!(
+                "criterion name {name:?} cannot be stored in a sweep file (empty, `.`, `..`, or contains `/` or NUL)"
+            ));
+        }
+        if record.criteria[..i].iter().any(|d| d.name == c.name) {
+            return Err(format!("criterion `{name}` appears twice"));
+        }
     }
-    let summary = writer.finish()?;
-    Ok(SweepReport {
-        out: out.to_path_buf(),
-        summary,
-        wall_time_s: started.elapsed().as_secs_f64(),
-    })
+    Ok(())
 }
 
 /// yawdyn version with git revision, as stored in files.

@@ -40,6 +40,9 @@ impl VaryAxis {
         if key.is_empty() || key.split('.').any(|part| part.trim().is_empty()) {
             return Err(bad("the parameter key is empty or has an empty part"));
         }
+        if key.contains(['/', '\0']) {
+            return Err(bad("the parameter key may not contain `/` or NUL"));
+        }
         let parts: Vec<&str> = range.split(':').map(str::trim).collect();
         let [start, stop, count] = parts[..] else {
             return Err(bad("expected three fields start:stop:count after `=`"));

@@ -21,26 +21,42 @@
 //! contiguous slices, cases `floor(total·(K−1)/N) .. floor(total·K/N)`
 //! ([`Shard::range`]).
 //!
-//! Cases run in parallel on a pool of exactly `jobs` threads, in chunks of
-//! `4 × jobs` cases; while the pool computes one chunk, the calling thread
-//! writes the previous one in case-index order, so memory holds at most two
-//! chunks of cases and the file's contents do not depend on thread timing.
-//! Object modification times are switched off on the file's root and every
-//! group (HDF5 `obj_track_times`; `h5ls -v` shows no stored times, and the
-//! byte-identity tests pass), so two
-//! sweeps of the same inputs give byte-identical files **except** for the
-//! root attribute `created_utc`; set the environment variable
-//! `SOURCE_DATE_EPOCH` (seconds since 1970, common practice for reproducible
-//! builds) to fix that stamp too, and the files are byte-identical.
-//! `yawdyn merge` builds its output with the same writer in the same order,
-//! so a merged file equals the unsharded one the same way.
+//! Cases run on exactly `jobs` worker threads (fewer when the shard has fewer
+//! cases), which take case indices in increasing order from a shared counter
+//! and hand finished cases to the calling thread. That thread writes them in
+//! case-index order, holding early arrivals until their turn; a worker does
+//! not start a case more than `4 × jobs` ahead of the next one to write, so
+//! memory holds at most that many finished cases besides one write block.
+//! The writer gathers cases into blocks of at most 64 cases (or 2²⁰ sample
+//! values, whichever comes first), counted from the first case it writes,
+//! and writes each block with one append per dataset, so the file's bytes do
+//! not depend on thread timing or on `--jobs`.
 //!
-//! # Sweep file layout (`format_version` 1)
+//! Object modification times are switched off on the file's root and every
+//! group and dataset (HDF5 `obj_track_times`; `h5ls -v` shows no stored
+//! times), so two sweeps of the same inputs give byte-identical files
+//! **except** for the root attribute `created_utc`; set the environment
+//! variable `SOURCE_DATE_EPOCH` (seconds since 1970, common practice for
+//! reproducible builds) to fix that stamp too, and the files are
+//! byte-identical. `yawdyn merge` builds its output with the same writer from
+//! the same cases in the same order, so a merged file equals the unsharded
+//! one the same way.
+//!
+//! # Sweep file layout (`format_version` 2)
+//!
+//! Few objects per file, none per case: every per-case quantity is one
+//! column (a one-dimensional dataset with one row per case, rows in
+//! case-index order), and every channel is one dataset holding the samples
+//! of all cases one after the other. The samples of row `i` are elements
+//! `sample_start[i] .. sample_start[i] + sample_count[i]` of `/time` and of
+//! every `/channels/<name>`. All text is variable-length UTF-8; numbers are
+//! f64 unless stated. `docs/file-formats.md` shows how to read it from
+//! Python and MATLAB.
 //!
 //! | Path | Kind | Contents |
 //! |------|------|----------|
 //! | `/` attribute `format` | text | always `yawdyn-sweep` |
-//! | `/` attribute `format_version` | i64 | `1` |
+//! | `/` attribute `format_version` | i64 | `2` |
 //! | `/` attributes `script_path`, `vehicle_path` | text | as given (`vehicle_path` empty when the script names its vehicle) |
 //! | `/` attributes `yawdyn_version`, `created_utc` | text | writer version; ISO 8601 UTC creation time |
 //! | `/` attribute `varied_keys` | text\[p\] | the varied parameter keys, `--vary` order |
@@ -49,44 +65,61 @@
 //! | `/spec/base_overrides` | text\[o\] | `--set` overrides, `key=value`, in order |
 //! | `/spec/vary_keys`, `/spec/vary_start`, `/spec/vary_stop`, `/spec/vary_count` | text/f64/f64/i64 \[p\] | the grid |
 //! | `/spec/channels` (attribute `channels_selected`) | text\[c\] (i64) | the `--channels` selection (1) or empty for all channels (0) |
-//! | `/summary/case_index` | i64\[r\] | global case index of each row (rows in index order) |
+//! | `/summary/case_index` | i64\[r\] | global case index of each row |
 //! | `/summary/status` | text\[r\] | `completed`, `criteria_failed`, `failed` or `error` (see [`CaseStatus`]) |
 //! | `/summary/message` | text\[r\] | why a case did not complete or pass; empty otherwise |
+//! | `/summary/failure_time_s` | f64\[r\] | simulation time of a run failure, s; NaN otherwise |
+//! | `/summary/sample_start`, `/summary/sample_count` | i64\[r\] | where the row's samples are in `/time` and the channels (count 0 for `error` rows) |
 //! | `/summary/parameter_order` | text\[p\] | the varied keys |
-//! | `/summary/parameters/<key>` | f64\[r\] | value of each varied parameter per row |
-//! | `/summary/metric_order` | text\[m\] | metric names, in order of first appearance over the cases |
-//! | `/summary/metrics/<name>` | f64\[r\] | metric per row, NaN where the case has none; attribute `units` |
-//! | `/cases/<index>` | group | one case; `<index>` zero-padded to the width of `case_total − 1` |
-//! | `/cases/<index>` attributes `case_index`, `status`, `message`, `failure_time_s` | i64, text, text, f64 | how the case ended (failure time in s, NaN if none) |
-//! | `/cases/<index>/parameters` | f64\[p\] | the varied values |
-//! | `/cases/<index>/overrides` | text\[o+p\] | every override the case ran with |
-//! | `/cases/<index>/time` | f64\[n\] | sample times; attribute `units` = `s` |
-//! | `/cases/<index>/channel_order`, `/channels/<name>` | text\[c\], f64\[n\] | stored channels; attributes `units`, `description` |
-//! | `/cases/<index>/metric_order`, `/metrics/<name>` | text\[m\], f64 scalar | the case's metrics; attribute `units` |
-//! | `/cases/<index>/criteria/{name,value,lower,upper,passed}` | as in a results file | pass/fail criteria |
+//! | `/summary/parameters/<key>` | f64\[r\] | value of each varied parameter |
+//! | `/summary/metric_order` | text\[m\] | metric names, in order of first report over the cases |
+//! | `/summary/metrics/<name>` | f64\[r\] | the metric; NaN where the case reported none; attributes `units`, `first_case` (index of the first case that reported it) |
+//! | `/summary/criterion_order` | text\[k\] | criterion names, in order of first report |
+//! | `/summary/criteria/<name>/value`, `lower`, `upper` | f64\[r\] | value checked and inclusive limits (NaN = no limit, or not evaluated) |
+//! | `/summary/criteria/<name>/passed` | i8\[r\] | 1 passed, 0 failed, −1 not evaluated in this case |
+//! | `/time` | f64\[N\] | sample times of all rows, concatenated; attribute `units` = `s` |
+//! | `/channel_order` | text\[c\] | stored channel names, in order |
+//! | `/channels/<name>` | f64\[N\] | one channel, all rows concatenated; attributes `units`, `description` |
 //!
-//! A case that could not run (`error`) has empty `time`, channels, metrics
-//! and criteria. A `failed` case keeps the samples computed up to the failure.
+//! The case's full override list is `/spec/base_overrides` followed by
+//! `key=value` for each varied key (the value in Rust's shortest round-trip
+//! form), as [`SweepCase::overrides`] gives it. A case that could not run
+//! (`error`) has no samples, metrics or criteria; a `failed` case keeps the
+//! samples computed up to the failure. Every case that ran stores the same
+//! channels (a case that returns another set is recorded as `error`).
+//!
+//! Every `[r]`, `[N]` and growing text dataset is chunked and extendable
+//! along its one dimension: the writer appends one block of rows at a time,
+//! samples first and `/summary/case_index` last, so the rows covered by
+//! `case_index` are complete. Files of layout version 1 (one group per case)
+//! are refused with a message naming both versions.
 
+mod case;
 mod engine;
-mod file;
 mod grid;
+mod layout;
+mod reader;
+mod writer;
 
 use std::path::PathBuf;
 
 use thiserror::Error;
 
+use crate::error::{Classify, ErrorKind, io_kind};
 use crate::params::Override;
+use crate::results::Access;
 
+pub use case::{Summary, SummaryCriterion, SummaryMetric, SweepCase};
 pub use engine::{CaseRunner, SweepOptions, SweepReport, merge_sweeps, run_sweep, utc_now};
-pub use file::{Summary, SummaryMetric, SweepCase, SweepFile, case_name, read_sweep};
 pub use grid::{Grid, Shard, VaryAxis};
+pub use reader::{SweepFile, read_sweep};
 
 /// Value of the root `format` attribute of a sweep file.
 pub const FORMAT_NAME: &str = "yawdyn-sweep";
 
-/// Layout version written to and accepted from the root `format_version` attribute.
-pub const FORMAT_VERSION: i64 = 1;
+/// Layout version written to and accepted from the root `format_version`
+/// attribute (1 was one HDF5 group per case; 2 is the column layout).
+pub const FORMAT_VERSION: i64 = 2;
 
 /// What is swept: the inputs that define the case list and every case's run.
 #[derive(Debug, Clone, PartialEq)]
@@ -180,6 +213,23 @@ pub enum SweepError {
         /// What is wrong.
         reason: String,
     },
+    /// The file is a sweep file of another layout version.
+    #[error(
+        "{}: sweep file layout version {found} is not supported; this yawdyn reads layout \
+         version {supported} (the file was written by yawdyn {writer}: rerun the sweep to get \
+         the current layout)",
+        path.display()
+    )]
+    UnsupportedVersion {
+        /// The file.
+        path: PathBuf,
+        /// `format_version` found in the file.
+        found: i64,
+        /// The version this build reads and writes.
+        supported: i64,
+        /// The `yawdyn_version` stored in the file (`unknown` when absent).
+        writer: String,
+    },
     /// The HDF5 library reported an error.
     #[error("{}: {action}", path.display())]
     Hdf5 {
@@ -187,6 +237,8 @@ pub enum SweepError {
         path: PathBuf,
         /// What was being done.
         action: String,
+        /// Reading or writing.
+        access: Access,
         /// The HDF5 error.
         #[source]
         source: hdf5::Error,
@@ -202,18 +254,40 @@ pub enum SweepError {
         #[source]
         source: std::io::Error,
     },
+    /// The worker threads could not be started.
+    #[error("cannot start {jobs} worker threads")]
+    Threads {
+        /// Threads asked for.
+        jobs: usize,
+        /// The operating-system error.
+        #[source]
+        source: std::io::Error,
+    },
+    /// A worker thread stopped without delivering its case (a defect of
+    /// yawdyn, not of the input); the file is not written.
+    #[error("sweep worker thread stopped without finishing case {index}")]
+    Worker {
+        /// The case that was lost.
+        index: usize,
+    },
 }
 
-impl SweepError {
-    /// True for errors caused by the user's input (exit code 2).
-    pub fn is_bad_input(&self) -> bool {
-        matches!(
-            self,
+impl Classify for SweepError {
+    /// Options, shard sets and foreign or damaged files are bad input; file
+    /// errors by their cause; HDF5 errors by [`Access`]; threads that cannot
+    /// start are the environment, a lost case a failed run.
+    fn kind(&self) -> ErrorKind {
+        match self {
             SweepError::Vary { .. }
-                | SweepError::Shard { .. }
-                | SweepError::Option(_)
-                | SweepError::Mismatch { .. }
-                | SweepError::Format { .. }
-        )
+            | SweepError::Shard { .. }
+            | SweepError::Option(_)
+            | SweepError::Mismatch { .. }
+            | SweepError::Format { .. }
+            | SweepError::UnsupportedVersion { .. } => ErrorKind::BadInput,
+            SweepError::Hdf5 { access, .. } => access.kind(),
+            SweepError::Io { source, .. } => io_kind(source),
+            SweepError::Threads { .. } => ErrorKind::Environment,
+            SweepError::Worker { .. } => ErrorKind::Failed,
+        }
     }
 }

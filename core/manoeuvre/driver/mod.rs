@@ -50,6 +50,13 @@ pub enum DriverError {
     },
 }
 
+impl crate::error::Classify for DriverError {
+    /// A driver-helper definition that makes no sense is bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        crate::error::ErrorKind::BadInput
+    }
+}
+
 fn check(
     item: &'static str,
     parameter: &'static str,

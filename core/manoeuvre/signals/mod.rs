@@ -77,6 +77,13 @@ pub enum SignalError {
     },
 }
 
+impl crate::error::Classify for SignalError {
+    /// A signal definition that makes no sense is bad input.
+    fn kind(&self) -> crate::error::ErrorKind {
+        crate::error::ErrorKind::BadInput
+    }
+}
+
 /// A function of time. See the module documentation.
 ///
 /// ```

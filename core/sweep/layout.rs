@@ -1,0 +1,90 @@
+//! The names and storage sizes of the sweep-file layout, read by both the
+//! writer and the reader (the layout itself is documented in
+//! [`crate::sweep`]).
+
+/// Group of the sweep's inputs.
+pub(crate) const SPEC: &str = "spec";
+/// Group of the per-case table.
+pub(crate) const SUMMARY: &str = "summary";
+/// Column of global case indices; written last in each block.
+pub(crate) const CASE_INDEX: &str = "case_index";
+/// Column of case statuses (text).
+pub(crate) const STATUS: &str = "status";
+/// Column of case messages (text).
+pub(crate) const MESSAGE: &str = "message";
+/// Column of run-failure times, s.
+pub(crate) const FAILURE_TIME: &str = "failure_time_s";
+/// Column of each row's first sample.
+pub(crate) const SAMPLE_START: &str = "sample_start";
+/// Column of each row's sample count.
+pub(crate) const SAMPLE_COUNT: &str = "sample_count";
+/// Text list of the varied keys.
+pub(crate) const PARAMETER_ORDER: &str = "parameter_order";
+/// Group of parameter columns.
+pub(crate) const PARAMETERS: &str = "parameters";
+/// Growing text list of metric names.
+pub(crate) const METRIC_ORDER: &str = "metric_order";
+/// Group of metric columns.
+pub(crate) const METRICS: &str = "metrics";
+/// Attribute of a metric column: first case that reported it.
+pub(crate) const FIRST_CASE: &str = "first_case";
+/// Growing text list of criterion names.
+pub(crate) const CRITERION_ORDER: &str = "criterion_order";
+/// Group of criterion groups.
+pub(crate) const CRITERIA: &str = "criteria";
+/// The four columns of a criterion group.
+pub(crate) const CRITERION_VALUE: &str = "value";
+/// Lower-limit column of a criterion.
+pub(crate) const CRITERION_LOWER: &str = "lower";
+/// Upper-limit column of a criterion.
+pub(crate) const CRITERION_UPPER: &str = "upper";
+/// Passed column of a criterion (i8: 1, 0, −1 = not evaluated).
+pub(crate) const CRITERION_PASSED: &str = "passed";
+/// Concatenated sample times.
+pub(crate) const TIME: &str = "time";
+/// Text list of the stored channels.
+pub(crate) const CHANNEL_ORDER: &str = "channel_order";
+/// Group of concatenated channels.
+pub(crate) const CHANNELS: &str = "channels";
+
+/// Rows per HDF5 chunk of the summary columns (4 KiB of f64).
+pub(crate) const SUMMARY_CHUNK: usize = 512;
+/// Entries per HDF5 chunk of the growing name lists.
+pub(crate) const NAME_CHUNK: usize = 64;
+/// Smallest and largest HDF5 chunk of the sample datasets, samples (8 KiB
+/// and 512 KiB of f64).
+pub(crate) const SAMPLE_CHUNK_RANGE: (usize, usize) = (1024, 65_536);
+/// Cases the sample chunk is sized to hold (of the first case that ran).
+pub(crate) const CASES_PER_SAMPLE_CHUNK: usize = 8;
+
+/// Cases per write block: the writer appends a block with one write per
+/// dataset once it holds this many cases ...
+pub(crate) const BLOCK_CASES: usize = 64;
+/// ... or this many sample values (8 MiB of f64), whichever comes first.
+pub(crate) const BLOCK_VALUES: usize = 1 << 20;
+
+/// HDF5 chunk of the sample datasets for cases of `samples` samples: room
+/// for [`CASES_PER_SAMPLE_CHUNK`] such cases, a power of two within
+/// [`SAMPLE_CHUNK_RANGE`].
+pub(crate) fn sample_chunk(samples: usize) -> usize {
+    let (low, high) = SAMPLE_CHUNK_RANGE;
+    samples
+        .saturating_mul(CASES_PER_SAMPLE_CHUNK)
+        .checked_next_power_of_two()
+        .unwrap_or(high)
+        .clamp(low, high)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sample_chunks_are_powers_of_two_in_range() {
+        assert_eq!(sample_chunk(0), 1024);
+        assert_eq!(sample_chunk(100), 1024);
+        assert_eq!(sample_chunk(674), 8192);
+        assert_eq!(sample_chunk(1_000_000), 65_536);
+        assert_eq!(sample_chunk(usize::MAX), 65_536);
+    }
+}
