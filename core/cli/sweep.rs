@@ -7,14 +7,17 @@ use std::path::{Path, PathBuf};
 
 use indicatif::{ProgressBar, ProgressStyle};
 use yawdyn::assets::{resolve_script, resolve_vehicle};
-use yawdyn::params::{Override, ParamError};
+use yawdyn::params::{Override, ParamError, read_text_file};
 use yawdyn::results::RunRecord;
-use yawdyn::script::{RunOptions, ScriptError, check_manoeuvre_keys, run_script};
+use yawdyn::script::{
+    Limits, MAX_SCRIPT_FILE_BYTES, RunOptions, ScriptError, check_manoeuvre_keys, run_script,
+};
 use yawdyn::sweep::{
     CaseStatus, Grid, Shard, SweepError, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
 };
 use yawdyn::table::{Table, fmt_num};
 
+use super::run::BudgetArgs;
 use super::{Outcome, bad_input, parse_overrides};
 
 /// Rows of the summary table printed before it is cut short.
@@ -57,6 +60,9 @@ pub struct Args {
     /// No progress bar.
     #[arg(long)]
     quiet: bool,
+    /// Budgets of each case.
+    #[command(flatten)]
+    budgets: BudgetArgs,
 }
 
 /// The checked form of [`Args`].
@@ -68,6 +74,7 @@ struct Config {
     jobs: usize,
     out: PathBuf,
     quiet: bool,
+    limits: Limits,
 }
 
 /// Runs `yawdyn sweep`.
@@ -85,7 +92,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         keys.iter().map(String::as_str).chain(sets),
     )?;
     preflight(&config)?;
-    let runner = script_case_runner(&config.script, config.vehicle.as_deref());
+    let runner = script_case_runner(&config.script, config.vehicle.as_deref(), config.limits);
 
     let range = config.shard.range(config.spec.grid.len());
     let bar = if config.quiet || !std::io::stderr().is_terminal() {
@@ -147,7 +154,8 @@ fn check(args: Args) -> anyhow::Result<Config> {
         }
         None => None,
     };
-    let script_text = std::fs::read_to_string(&args.script)
+    let limits = args.budgets.limits()?;
+    let script_text = read_text_file(&args.script, None, MAX_SCRIPT_FILE_BYTES)
         .map_err(|e| bad_input(format!("cannot read script {}: {e}", args.script.display())))?;
     if let Some(vehicle) = &args.vehicle
         && !vehicle.is_file()
@@ -188,6 +196,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
         jobs,
         out,
         quiet: args.quiet,
+        limits,
     })
 }
 
@@ -196,12 +205,14 @@ fn check(args: Args) -> anyhow::Result<Config> {
 fn script_case_runner<'a>(
     script: &'a Path,
     vehicle: Option<&'a Path>,
+    limits: Limits,
 ) -> impl Fn(&[Override]) -> Result<RunRecord, String> + Sync + 'a {
     move |overrides| {
         let options = RunOptions {
             vehicle: vehicle.map(Path::to_path_buf),
             overrides: overrides.to_vec(),
             progress: None,
+            limits,
         };
         run_script(script, &options).map_err(|e| with_causes(&e))
     }
@@ -235,6 +246,7 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
         vehicle: config.vehicle.clone(),
         overrides,
         progress: None,
+        limits: config.limits,
     };
     match run_script(&config.script, &options) {
         Ok(record) => {

@@ -10,6 +10,7 @@
 //! ```
 
 mod file;
+mod input_file;
 mod issue;
 mod load;
 mod vehicle;
@@ -18,6 +19,7 @@ pub use file::{
     AeroFile, AxlePair, BrakesFile, ChassisFile, DifferentialFile, DifferentialKind, DriveFile,
     DriveUnitFile, RoadFile, SteeringFile, TyreFile, VehicleFile,
 };
+pub use input_file::{MAX_VEHICLE_FILE_BYTES, read_text_file, read_vehicle_file};
 pub use issue::{ParamError, ParamIssue};
 pub use load::{OVERRIDE_SOURCE, Override, load_vehicle, load_vehicle_text};
 pub use vehicle::{AxleTyre, DriveUnit, FRONT, GRAVITY, REAR, Vehicle};
