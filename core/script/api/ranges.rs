@@ -27,8 +27,9 @@ pub(crate) const NON_NEGATIVE: (f64, f64) = (0.0, f64::INFINITY);
 pub(crate) const MAX_SIGNAL_POINTS: usize = 200_000;
 /// Deepest nesting of signals (sums, sequences, offsets, gains).
 pub(crate) const MAX_SIGNAL_DEPTH: usize = 32;
-/// Spacing of the fine check of a signal whose bounds leave its range, s.
-const FINE_CHECK_STEP_S: f64 = 1e-3;
+/// Rate of the fine check of a signal whose bounds leave its range, Hz
+/// (every millisecond).
+const FINE_CHECK_RATE_HZ: f64 = 1000.0;
 /// Largest signal (parts and table points) given the fine check.
 const FINE_CHECK_MAX_POINTS: usize = 1000;
 
@@ -75,9 +76,9 @@ pub(crate) fn check_signal(what: &str, signal: &Signal, range: (f64, f64)) -> Re
             text(range)
         )));
     }
-    let steps = (MAX_SIM_TIME_S / FINE_CHECK_STEP_S).round() as u64;
+    let steps = (MAX_SIM_TIME_S * FINE_CHECK_RATE_HZ).round() as u64;
     for k in 0..=steps {
-        let t = k as f64 * FINE_CHECK_STEP_S;
+        let t = k as f64 / FINE_CHECK_RATE_HZ;
         let v = signal.value(t);
         if !(range.0..=range.1).contains(&v) {
             return Err(script_error(format!(
