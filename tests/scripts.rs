@@ -480,7 +480,11 @@ fn endless_loop_is_stopped_by_the_operation_limit() {
     );
     out.expect_code(1);
     assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
-    assert!(out.stderr.contains("forever_ctl.rhai:4:1"), "{}", out.stderr);
+    assert!(
+        out.stderr.contains("forever_ctl.rhai:4:1"),
+        "{}",
+        out.stderr
+    );
 }
 
 #[test]
@@ -515,13 +519,13 @@ fn diverging_run_exits_1_and_keeps_the_channels() {
     let path = write_with_vehicle(
         &dir,
         "diverge.rhai",
-        &(r#"set("tyre.front.relaxation_length_lateral", 1e-3);
+        r#"set("tyre.front.relaxation_length_lateral", 1e-3);
 set("tyre.front.relaxation_length_longitudinal", 1e-3);
 solver("rk4");
 start_speed(2.0);
 drive(1.0);
 run_for(5.0);
-"#),
+"#,
     );
     let out = dir.yawdyn(["run", path.to_str().unwrap(), "--out", "d.h5"]);
     out.expect_code(1);
@@ -607,7 +611,7 @@ fn failed_criterion_exits_1() {
     let path = write_with_vehicle(
         &dir,
         "crit.rhai",
-        &("start_speed(10.0);\nrun_for(0.2);\nfn evaluate(ch) {\n    criterion(\"speed\", max(ch.speed), 20.0, ());\n}\n"),
+        "start_speed(10.0);\nrun_for(0.2);\nfn evaluate(ch) {\n    criterion(\"speed\", max(ch.speed), 20.0, ());\n}\n",
     );
     let out = dir.yawdyn(["run", path.to_str().unwrap(), "--out", "c.h5"]);
     out.expect_code(1);
