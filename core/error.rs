@@ -72,8 +72,8 @@ pub const EXIT_CODES: [(u8, &str); 3] = [
     ),
     (
         1,
-        "failed: a run failed (diverged, solver gave up, the simulated-time limit, an error in \
-         the script's evaluate after the simulation; the results file is still written, status \
+        "failed: a run failed (diverged, solver gave up, the simulated-time limit or a script \
+         budget spent, an error in the script's evaluate after the simulation; the results file is still written, status \
          failed), a criterion or regression check failed, no trim exists, or the machine got \
          in the way (disk full, I/O error)",
     ),

@@ -8,6 +8,11 @@ mod cli;
 
 use std::process::ExitCode;
 
+/// Counts memory per thread for the script memory budget (see
+/// `yawdyn::script::CountingAllocator`).
+#[global_allocator]
+static ALLOCATOR: yawdyn::script::CountingAllocator = yawdyn::script::CountingAllocator;
+
 fn main() -> ExitCode {
     match cli::run() {
         Ok(cli::Outcome::Success) => ExitCode::from(0),

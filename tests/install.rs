@@ -175,15 +175,16 @@ fn shipped_scripts_and_vehicles_are_found_from_any_folder() {
     );
 }
 
-/// A file in the current folder wins over a shipped name spelled the same.
+/// A file in the current folder wins over a shipped name spelled the same
+/// (a vehicle file must end in `.toml`).
 #[test]
 fn a_local_file_wins_over_the_shipped_copy() {
     let dir = tempfile::tempdir().unwrap();
     let own = std::fs::read_to_string(repo("scripts/vehicles/track_car.toml"))
         .unwrap()
         .replacen("name = \"", "name = \"LOCAL COPY ", 1);
-    std::fs::write(dir.path().join("track_car"), own).unwrap();
-    let o = yawdyn_in(dir.path(), &["vehicle", "track_car"]);
+    std::fs::write(dir.path().join("track_car.toml"), own).unwrap();
+    let o = yawdyn_in(dir.path(), &["vehicle", "track_car.toml"]);
     assert_eq!(o.status.code(), Some(0), "{}", text(&o));
     assert!(
         String::from_utf8_lossy(&o.stdout).contains("LOCAL COPY"),

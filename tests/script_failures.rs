@@ -10,19 +10,13 @@ use std::path::Path;
 use common::{TempDir, repo_path};
 use yawdyn::results::{RunRecord, RunStatus, read_hdf5};
 
-/// The shipped vehicle line of a script, made absolute for a script written
-/// into a temporary directory.
-fn with_vehicle(text: &str) -> String {
-    let v = repo_path("scripts/vehicles/hybrid_crossover.toml");
-    text.replace(
-        "vehicle(\"vehicles/hybrid_crossover.toml\")",
-        &format!("vehicle(\"{}\")", v.display()),
-    )
-}
-
-/// Runs `text` as `name` in `dir` with `args`; returns the output.
+/// Runs `text` as `name` in `dir` with `args`, with the demo crossover
+/// copied into `dir/vehicles/` (a script reads only vehicle files inside
+/// its folder); returns the output.
 fn run(dir: &TempDir, name: &str, text: &str, args: &[&str]) -> common::Output {
-    let path = dir.write(name, &with_vehicle(text));
+    let vehicle = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
+    dir.write("vehicles/hybrid_crossover.toml", &vehicle.unwrap());
+    let path = dir.write(name, text);
     let mut all = vec!["run", path.to_str().unwrap(), "--quiet", "--out", "r.h5"];
     all.extend_from_slice(args);
     dir.yawdyn(&all)

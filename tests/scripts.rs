@@ -400,19 +400,24 @@ fn progress_reports_increasing_time() {
     assert!((seen.last().unwrap().0 - r.duration_s()).abs() < 1e-9);
 }
 
+/// Runs `text` as `name` in `dir`, with the demo crossover copied into
+/// `dir/vehicles/` (a script reads only vehicle files inside its folder).
 fn bad_script(dir: &TempDir, name: &str, text: &str) -> common::Output {
+    let vehicle = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
+    dir.write("vehicles/hybrid_crossover.toml", &vehicle.unwrap());
     let path = dir.write(name, text);
     dir.yawdyn(["run", path.to_str().unwrap(), "--quiet"])
 }
 
-const VEHICLE_LINE: &str = "vehicle(\"VEHICLE\");\n";
+/// Writes `with_vehicle(text)` as `name` in `dir` with the vehicle beside it.
+fn write_with_vehicle(dir: &TempDir, name: &str, text: &str) -> std::path::PathBuf {
+    let vehicle = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
+    dir.write("vehicles/hybrid_crossover.toml", &vehicle.unwrap());
+    dir.write(name, &with_vehicle(text))
+}
 
 fn with_vehicle(text: &str) -> String {
-    let v = repo_path("scripts/vehicles/hybrid_crossover.toml");
-    format!(
-        "{}{text}",
-        VEHICLE_LINE.replace("VEHICLE", v.to_str().unwrap())
-    )
+    format!("vehicle(\"vehicles/hybrid_crossover.toml\");\n{text}")
 }
 
 #[test]
@@ -466,17 +471,24 @@ fn runtime_error_reports_file_line_column() {
 fn endless_loop_is_stopped_by_the_operation_limit() {
     let dir = TempDir::new();
     let out = bad_script(&dir, "forever.rhai", "let n = 0;\nloop { n += 1; }\n");
-    out.expect_code(2);
-    assert!(out.stderr.contains("operation limit"), "{}", out.stderr);
+    // A spent budget is a failed run (exit 1); nothing was simulated, no file.
+    out.expect_code(1);
+    assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
     assert!(out.stderr.contains("forever.rhai:2:"), "{}", out.stderr);
-    // Endless loop inside a per-tick controller.
+    // Endless loop inside a per-tick controller at its first tick: the run
+    // stops before its first sample (no file), at the phase call.
     let out = bad_script(
         &dir,
         "forever_ctl.rhai",
         &with_vehicle("start_speed(10.0);\ncontroller(|s| { loop { } });\nrun_for(1.0);\n"),
     );
-    out.expect_code(2);
-    assert!(out.stderr.contains("operation limit"), "{}", out.stderr);
+    out.expect_code(1);
+    assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
+    assert!(
+        out.stderr.contains("forever_ctl.rhai:4:1"),
+        "{}",
+        out.stderr
+    );
 }
 
 #[test]
@@ -508,17 +520,16 @@ fn unknown_set_key_lists_the_closest_names() {
 #[test]
 fn diverging_run_exits_1_and_keeps_the_channels() {
     let dir = TempDir::new();
-    let path = dir.write(
+    let path = write_with_vehicle(
+        &dir,
         "diverge.rhai",
-        &with_vehicle(
-            r#"set("tyre.front.relaxation_length_lateral", 1e-3);
+        r#"set("tyre.front.relaxation_length_lateral", 1e-3);
 set("tyre.front.relaxation_length_longitudinal", 1e-3);
 solver("rk4");
 start_speed(2.0);
 drive(1.0);
 run_for(5.0);
 "#,
-        ),
     );
     let out = dir.yawdyn(["run", path.to_str().unwrap(), "--out", "d.h5"]);
     out.expect_code(1);
@@ -601,9 +612,10 @@ fn run_summary_lists_criteria_and_metrics() {
 #[test]
 fn failed_criterion_exits_1() {
     let dir = TempDir::new();
-    let path = dir.write(
+    let path = write_with_vehicle(
+        &dir,
         "crit.rhai",
-        &with_vehicle("start_speed(10.0);\nrun_for(0.2);\nfn evaluate(ch) {\n    criterion(\"speed\", max(ch.speed), 20.0, ());\n}\n"),
+        "start_speed(10.0);\nrun_for(0.2);\nfn evaluate(ch) {\n    criterion(\"speed\", max(ch.speed), 20.0, ());\n}\n",
     );
     let out = dir.yawdyn(["run", path.to_str().unwrap(), "--out", "c.h5"]);
     out.expect_code(1);

@@ -1,5 +1,6 @@
 //! `yawdyn run SCRIPT [--vehicle FILE] [--set key=value]... [--out FILE.h5]
-//! [--csv FILE] [--quiet]`: run a manoeuvre script, print a summary and write
+//! [--csv FILE] [--quiet] [--max-operations N] [--max-wall SECONDS]
+//! [--max-memory MIB]`: run a manoeuvre script, print a summary and write
 //! the results file.
 
 use std::io::IsTerminal;
@@ -9,15 +10,53 @@ use std::time::Instant;
 use anyhow::Context;
 use yawdyn::assets::{resolve_script, resolve_vehicle};
 use yawdyn::results::{self, RunRecord, RunStatus};
-use yawdyn::script::{RunOptions, run_script};
+use yawdyn::script::budget::MIB;
+use yawdyn::script::{
+    DEFAULT_MAX_OPERATIONS, DEFAULT_MAX_SAMPLE_BYTES, DEFAULT_MAX_WALL_S, Limits, RunOptions,
+    run_script,
+};
 use yawdyn::table::{Table, fmt_num};
 
-use super::{Outcome, parse_overrides};
+use super::{Outcome, bad_input, parse_overrides};
+
+/// The budgets of one run (`run` and each case of `sweep`).
+#[derive(Debug, Clone, clap::Args)]
+pub struct BudgetArgs {
+    /// Script operations one run may use: top level, every controller call
+    /// and evaluate(ch) together. A run that needs more stops as failed.
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_MAX_OPERATIONS)]
+    max_operations: u64,
+    /// Wall-clock seconds one run may take. A run that takes longer stops as
+    /// failed (exit 1); the samples so far are written, status `failed`.
+    #[arg(long, value_name = "SECONDS", default_value_t = DEFAULT_MAX_WALL_S)]
+    max_wall: f64,
+    /// Memory the recorded samples of one run may take, MiB (samples ×
+    /// (channels + 1) × 8 bytes), checked before each phase for its planned end.
+    #[arg(long, value_name = "MIB", default_value_t = DEFAULT_MAX_SAMPLE_BYTES / MIB)]
+    max_memory: u64,
+}
+
+impl BudgetArgs {
+    /// The checked limits (bad input names the option).
+    pub fn limits(&self) -> anyhow::Result<Limits> {
+        let limits = Limits {
+            max_operations: self.max_operations,
+            max_wall_s: self.max_wall,
+            max_sample_bytes: self.max_memory.saturating_mul(MIB),
+            ..Limits::default()
+        };
+        limits
+            .check()
+            .map_err(|e| bad_input(format!("--max-operations/--max-wall/--max-memory: {e}")))?;
+        Ok(limits)
+    }
+}
 
 /// Arguments of `yawdyn run`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "The results file is written whenever the run produced data, also when it failed."
+    after_help = "The results file is written whenever the run produced data, also when it failed \
+(status `failed`), including when a budget (--max-operations, --max-wall, --max-memory) was spent."
 )]
 pub struct Args {
     /// Manoeuvre script (Rhai), e.g. scripts/step_steer.rhai, or the name of a
@@ -41,6 +80,8 @@ pub struct Args {
     /// No progress bar and no summary (errors are still printed).
     #[arg(long)]
     quiet: bool,
+    #[command(flatten)]
+    budgets: BudgetArgs,
 }
 
 /// Runs `yawdyn run`.
@@ -48,6 +89,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     args.script = resolve_script(&args.script)?;
     args.vehicle = args.vehicle.map(|v| resolve_vehicle(&v)).transpose()?;
     let overrides = parse_overrides(&args.sets)?;
+    let limits = args.budgets.limits()?;
     let out = args
         .out
         .clone()
@@ -73,6 +115,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
                 bar.set_position((t * 1000.0) as u64);
             }) as Box<dyn Fn(f64, f64)>
         }),
+        limits,
     };
     let started = Instant::now();
     let result = run_script(&args.script, &options);

@@ -181,8 +181,7 @@ fn build_case(inp: &Inputs<'_>, mut point: Point, varied: &[(&str, f64)]) -> any
 pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     args.vehicle = resolve_vehicle(&args.vehicle)?;
     let overrides = parse_overrides(&args.sets)?;
-    let text = std::fs::read_to_string(&args.vehicle)
-        .with_context(|| format!("cannot read vehicle file {}", args.vehicle.display()))?;
+    let text = yawdyn::params::read_vehicle_file(&args.vehicle)?;
     let inputs = Inputs {
         text: &text,
         path: &args.vehicle,

@@ -8,14 +8,17 @@ use std::path::{Path, PathBuf};
 use anyhow::Context;
 use indicatif::{ProgressBar, ProgressStyle};
 use yawdyn::assets::{resolve_script, resolve_vehicle};
-use yawdyn::params::{Override, ParamError};
+use yawdyn::params::{Override, ParamError, read_text_file};
 use yawdyn::results::RunRecord;
-use yawdyn::script::{RunOptions, ScriptError, check_manoeuvre_keys, run_script};
+use yawdyn::script::{
+    Limits, MAX_SCRIPT_FILE_BYTES, RunOptions, ScriptError, check_manoeuvre_keys, run_script,
+};
 use yawdyn::sweep::{
     CaseStatus, Grid, Shard, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
 };
 use yawdyn::table::{Table, fmt_num};
 
+use super::run::BudgetArgs;
 use super::{Outcome, bad_input, parse_overrides};
 
 /// Rows of the summary table printed before it is cut short.
@@ -58,6 +61,9 @@ pub struct Args {
     /// No progress bar.
     #[arg(long)]
     quiet: bool,
+    /// Budgets of each case.
+    #[command(flatten)]
+    budgets: BudgetArgs,
 }
 
 /// The checked form of [`Args`].
@@ -69,6 +75,7 @@ struct Config {
     jobs: usize,
     out: PathBuf,
     quiet: bool,
+    limits: Limits,
 }
 
 /// Runs `yawdyn sweep`.
@@ -87,7 +94,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     )?;
     yawdyn::results::check_output_path(&config.out)?;
     preflight(&config)?;
-    let runner = script_case_runner(&config.script, config.vehicle.as_deref());
+    let runner = script_case_runner(&config.script, config.vehicle.as_deref(), config.limits);
 
     let range = config.shard.range(config.spec.grid.len());
     let bar = if config.quiet || !std::io::stderr().is_terminal() {
@@ -148,7 +155,8 @@ fn check(args: Args) -> anyhow::Result<Config> {
         }
         None => None,
     };
-    let script_text = std::fs::read_to_string(&args.script)
+    let limits = args.budgets.limits()?;
+    let script_text = read_text_file(&args.script, None, MAX_SCRIPT_FILE_BYTES)
         .with_context(|| format!("cannot read script {}", args.script.display()))?;
     if let Some(vehicle) = &args.vehicle
         && !vehicle.is_file()
@@ -189,6 +197,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
         jobs,
         out,
         quiet: args.quiet,
+        limits,
     })
 }
 
@@ -197,12 +206,14 @@ fn check(args: Args) -> anyhow::Result<Config> {
 fn script_case_runner<'a>(
     script: &'a Path,
     vehicle: Option<&'a Path>,
+    limits: Limits,
 ) -> impl Fn(&[Override]) -> Result<RunRecord, String> + Sync + 'a {
     move |overrides| {
         let options = RunOptions {
             vehicle: vehicle.map(Path::to_path_buf),
             overrides: overrides.to_vec(),
             progress: None,
+            limits,
         };
         run_script(script, &options).map_err(|e| with_causes(&e))
     }
@@ -236,6 +247,7 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
         vehicle: config.vehicle.clone(),
         overrides,
         progress: None,
+        limits: config.limits,
     };
     match run_script(&config.script, &options) {
         Ok(record) => {

@@ -61,10 +61,7 @@ fn parse_value(raw: &str) -> Option<toml::Value> {
 
 /// Loads, overrides and checks a vehicle file.
 pub fn load_vehicle(path: &Path, overrides: &[Override]) -> Result<Vehicle, ParamError> {
-    let text = std::fs::read_to_string(path).map_err(|source| ParamError::Read {
-        path: path.to_path_buf(),
-        source,
-    })?;
+    let text = super::input_file::read_vehicle_file(path)?;
     load_vehicle_text(&text, path, overrides)
 }
 

@@ -24,6 +24,7 @@ mod brakes;
 mod chassis;
 mod checks;
 mod drive;
+mod input_file;
 mod issue;
 mod load;
 mod road;
@@ -40,6 +41,7 @@ pub use drive::{
     Differential, DifferentialFile, DifferentialKind, DriveFile, DriveUnit, DriveUnitFile, Fuel,
     FuelFile, Machine, MotorGenerator, Powertrain, TorqueLimit, UnitKind,
 };
+pub use input_file::{MAX_VEHICLE_FILE_BYTES, read_text_file, read_vehicle_file};
 pub use issue::{ParamError, ParamIssue};
 pub use load::{OVERRIDE_SOURCE, Override, load_vehicle, load_vehicle_text};
 pub use road::{Road, RoadFile};

@@ -91,6 +91,23 @@ pub enum ScriptError {
         /// The script.
         script: PathBuf,
     },
+    /// The thread to run the script on could not be started.
+    #[error("{}: cannot start a thread to run the script", script.display())]
+    Thread {
+        /// The script.
+        script: PathBuf,
+        /// Why.
+        source: std::io::Error,
+    },
+    /// A budget of the run (operations, wall-clock time, memory) was spent
+    /// before any sample was recorded.
+    #[error("{at}: {message}")]
+    Budget {
+        /// Where the script was when the budget ran out.
+        at: ScriptPosition,
+        /// Which budget, its size and how to raise it.
+        message: String,
+    },
 }
 
 /// `` `a`, `b` ``.
@@ -104,7 +121,8 @@ fn quoted(names: &[String]) -> String {
 
 impl Classify for ScriptError {
     /// Everything the user wrote (script, vehicle, parameter names) is bad
-    /// input; only a panic of the script thread is a failed run.
+    /// input; a spent budget and a panic of the script thread are a failed
+    /// run; a thread that cannot start is the machine's.
     fn kind(&self) -> ErrorKind {
         match self {
             Self::Read { .. }
@@ -113,7 +131,8 @@ impl Classify for ScriptError {
             | Self::ParameterName { .. }
             | Self::UnknownParameters { .. }
             | Self::Vehicle { .. } => ErrorKind::BadInput,
-            Self::Panicked { .. } => ErrorKind::Failed,
+            Self::Panicked { .. } | Self::Budget { .. } => ErrorKind::Failed,
+            Self::Thread { .. } => ErrorKind::Environment,
         }
     }
 }

@@ -17,6 +17,9 @@
 //! - [`runner`]: owns the simulation, the drivers, the held commands and the
 //!   tick loop; knows nothing of the script engine ([`Runner`]);
 //! - [`log`]: phases, remembered values, notes, metrics and criteria ([`RunLog`]);
+//! - [`budget`]: the budgets of a run (operations, wall time, memory) and
+//!   what it has spent ([`Budget`]); `memory`: the per-thread memory count
+//!   behind the script memory budget ([`CountingAllocator`]);
 //! - `record`: the record from the runner, the setup and the log;
 //! - `api`: the Rhai engine and the script API, one file per topic, over the
 //!   three parts; `run`: the entry points ([`run_script`]).
@@ -40,19 +43,26 @@
 //! ```
 
 mod api;
+pub mod budget;
 mod error;
 mod facts;
 pub mod log;
+mod memory;
 mod record;
 mod run;
 pub mod runner;
 pub mod setup;
 
-pub use api::{MAX_OPERATIONS, check_manoeuvre_keys, manoeuvre_parameters};
+pub use api::{check_manoeuvre_keys, manoeuvre_parameters};
+pub use budget::{
+    Budget, DEFAULT_MAX_OPERATIONS, DEFAULT_MAX_SAMPLE_BYTES, DEFAULT_MAX_WALL_S, Exceeded, Limits,
+    MAX_SCRIPT_BYTES,
+};
 pub use error::{ScriptError, ScriptPosition};
 pub use facts::VehicleFacts;
 pub use log::{LogError, RunLog};
-pub use run::{RunOptions, run_script, run_script_text};
+pub use memory::{CountingAllocator, live_bytes};
+pub use run::{MAX_SCRIPT_FILE_BYTES, RunOptions, run_script, run_script_text};
 pub use runner::{
     Conditions, Held, Inputs, OpenInput, RunStop, Runner, TickState, TickStep, Until,
 };

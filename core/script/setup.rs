@@ -13,44 +13,30 @@
 //!
 //! Knows nothing of the script engine or of the simulation loop.
 
-use std::path::{Path, PathBuf};
+use std::path::{Component, Path, PathBuf};
 use std::sync::Arc;
+use std::time::Instant;
 
+pub use super::budget::{Limits, MAX_SIM_TIME_S};
 use super::facts::VehicleFacts;
 use crate::params::{self, Override, ParamError, Vehicle};
-use crate::sim::{SolverKind, SolverSettings};
+use crate::sim::{MAX_STEPS_PER_SEGMENT, SolverKind, SolverSettings};
 
 /// Default controller tick rate, Hz.
 pub const DEFAULT_TICK_RATE_HZ: f64 = 100.0;
 /// Default output sample rate, Hz.
 pub const DEFAULT_SAMPLE_RATE_HZ: f64 = 100.0;
-/// Longest simulated time a run may reach, s.
-pub const MAX_SIM_TIME_S: f64 = 600.0;
 /// Output sample rates accepted, Hz: (0, this].
 pub const MAX_SAMPLE_RATE_HZ: f64 = 100_000.0;
 /// Controller tick rates accepted, Hz.
 pub const TICK_RATE_RANGE_HZ: (f64, f64) = (1.0, 10_000.0);
+/// Smallest `rk4` step accepted, s (1 µs).
+pub const MIN_FIXED_STEP_S: f64 = 1e-6;
 
 /// Overrides whose key starts with this prefix are manoeuvre parameters read
 /// by the script with `param("name", default)`, not vehicle parameters:
 /// `--set manoeuvre.exit_torque=3000`.
 pub const MANOEUVRE_PREFIX: &str = "manoeuvre.";
-
-/// Limits of one run. Room for further budgets (operations, memory, wall
-/// time) beside the simulated-time limit.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Limits {
-    /// Longest simulated time, s. Default [`MAX_SIM_TIME_S`].
-    pub max_sim_time_s: f64,
-}
-
-impl Default for Limits {
-    fn default() -> Self {
-        Self {
-            max_sim_time_s: MAX_SIM_TIME_S,
-        }
-    }
-}
 
 /// The checked configuration of a run, fixed at its first phase.
 #[derive(Debug, Clone)]
@@ -73,6 +59,8 @@ pub struct RunConfig {
     pub start_speed: f64,
     /// Limits of the run.
     pub limits: Limits,
+    /// When the run began: its wall-clock budget counts from here.
+    pub started: Instant,
 }
 
 impl RunConfig {
@@ -89,6 +77,7 @@ impl RunConfig {
             solver: SolverSettings::default(),
             start_speed: 0.0,
             limits: Limits::default(),
+            started: Instant::now(),
         }
     }
 }
@@ -143,6 +132,8 @@ pub struct Setup {
     vehicle: Option<(Arc<Vehicle>, PathBuf)>,
     /// The configuration once fixed (first phase).
     config: Option<Arc<RunConfig>>,
+    limits: Limits,
+    started: Instant,
 }
 
 /// Splits the caller's overrides into manoeuvre parameters and vehicle overrides.
@@ -180,7 +171,17 @@ impl Setup {
             start_speed: 0.0,
             vehicle: None,
             config: None,
+            limits: Limits::default(),
+            started: Instant::now(),
         }
+    }
+
+    /// The run's limits, and when it began (its wall-clock budget counts
+    /// from there).
+    pub fn with_limits(mut self, limits: Limits, started: Instant) -> Self {
+        self.limits = limits;
+        self.started = started;
+        self
     }
 
     /// Error unless the vehicle is still to be loaded.
@@ -206,9 +207,21 @@ impl Setup {
     }
 
     /// `vehicle(file)`: the vehicle file, relative to the script's folder
-    /// (a caller's `--vehicle` wins).
+    /// and inside it (no absolute path, no `..`), so that a script reads no
+    /// file elsewhere on the machine and cannot probe whether one exists;
+    /// a caller's `--vehicle` wins and may be anywhere.
     pub fn choose_vehicle(&mut self, file: &str) -> Result<(), SetupError> {
         self.before_vehicle("vehicle(...)")?;
+        let inside = Path::new(file)
+            .components()
+            .all(|c| matches!(c, Component::Normal(_) | Component::CurDir));
+        if file.is_empty() || !inside {
+            return Err(SetupError::Invalid(format!(
+                "vehicle(\"{file}\"): a script names its vehicle file relative to its own \
+                 folder and inside it (no absolute path, no `..`); give a file elsewhere \
+                 with --vehicle"
+            )));
+        }
         self.script_vehicle = Some(self.script_dir.join(file));
         Ok(())
     }
@@ -267,11 +280,13 @@ impl Setup {
         Ok(())
     }
 
-    /// `fixed_step(s)`: the step of `rk4`.
+    /// `fixed_step(s)`: the step of `rk4`, at least [`MIN_FIXED_STEP_S`].
     pub fn fixed_step(&mut self, dt: f64) -> Result<(), SetupError> {
         self.before_start("fixed_step(...)")?;
-        if dt.is_nan() || dt <= 0.0 {
-            return Err(SetupError::Invalid("fixed step must be positive".into()));
+        if dt.is_nan() || dt < MIN_FIXED_STEP_S {
+            return Err(SetupError::Invalid(format!(
+                "fixed step must be at least {MIN_FIXED_STEP_S} s, got {dt}"
+            )));
         }
         self.solver.fixed_step = dt;
         Ok(())
@@ -354,6 +369,7 @@ impl Setup {
         if let Some(c) = &self.config {
             return Ok(c.clone());
         }
+        self.check_steps_per_tick()?;
         let vehicle = self.vehicle()?;
         let vehicle_path = self.vehicle.as_ref().map(|(_, p)| p.clone());
         let config = Arc::new(RunConfig {
@@ -365,10 +381,30 @@ impl Setup {
             tick_rate_hz: self.tick_rate_hz,
             solver: self.solver,
             start_speed: self.start_speed,
-            limits: Limits::default(),
+            limits: self.limits,
+            started: self.started,
         });
         self.config = Some(config.clone());
         Ok(config)
+    }
+}
+
+impl Setup {
+    /// `rk4` integrates each tick in equal steps and keeps every step of a
+    /// tick in memory: at most [`MAX_STEPS_PER_SEGMENT`] per tick.
+    fn check_steps_per_tick(&self) -> Result<(), SetupError> {
+        if self.solver.kind != SolverKind::Rk4 {
+            return Ok(());
+        }
+        let steps = (1.0 / self.tick_rate_hz / self.solver.fixed_step).ceil();
+        if steps > f64::from(MAX_STEPS_PER_SEGMENT) {
+            return Err(SetupError::Invalid(format!(
+                "rk4 with fixed_step({}) at tick_rate({}) takes {steps} steps per tick; \
+                 at most {MAX_STEPS_PER_SEGMENT} (raise the fixed step or the tick rate)",
+                self.solver.fixed_step, self.tick_rate_hz
+            )));
+        }
+        Ok(())
     }
 }
 

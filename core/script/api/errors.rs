@@ -6,7 +6,9 @@ use std::sync::Arc;
 
 use rhai::{Dynamic, Engine, EvalAltResult, Position};
 
+use super::evaluate::missing_key;
 use crate::params::ParamError;
+use crate::script::budget::Exceeded;
 use crate::script::error::{ScriptError, ScriptPosition};
 
 /// A Rhai error result.
@@ -32,6 +34,11 @@ pub(crate) fn vehicle_error(e: Arc<ParamError>) -> Box<EvalAltResult> {
     ))
 }
 
+/// The value of the error that unwinds the script when a budget is spent
+/// (raised by the engine's operation hook; a script cannot catch it).
+#[derive(Debug, Clone)]
+pub(crate) struct BudgetStop(pub Exceeded);
+
 /// The error that unwinds the script after the runner stopped the run (not
 /// bad input; a script cannot catch it).
 pub(crate) fn terminated() -> Box<EvalAltResult> {
@@ -39,6 +46,40 @@ pub(crate) fn terminated() -> Box<EvalAltResult> {
         Dynamic::from("run stopped"),
         Position::NONE,
     ))
+}
+
+/// `err`, or the uncatchable error inside it: a spent budget or a stopped
+/// run raised in a script function (a controller) comes back wrapped in the
+/// function call, which `try`/`catch` could catch; unwrapped, the whole
+/// script stops.
+pub(crate) fn uncatchable(err: Box<EvalAltResult>) -> Box<EvalAltResult> {
+    let mut inner = &*err;
+    while let EvalAltResult::ErrorInFunctionCall(_, _, e, _) = inner {
+        inner = e;
+    }
+    match inner {
+        EvalAltResult::ErrorTerminated(value, pos) => {
+            Box::new(EvalAltResult::ErrorTerminated(value.clone(), *pos))
+        }
+        _ => err,
+    }
+}
+
+/// The innermost script position of `err` (through the calls of script
+/// functions), as [`located`] finds it.
+pub(crate) fn innermost_position(path: &Path, err: &EvalAltResult) -> ScriptPosition {
+    let mut err = err;
+    let mut outer = Position::NONE;
+    while let EvalAltResult::ErrorInFunctionCall(_, _, inner, pos) = err {
+        if outer.is_none() {
+            outer = *pos;
+        }
+        err = inner;
+    }
+    match err.position() {
+        pos if pos.is_none() => position(path, outer),
+        pos => position(path, pos),
+    }
 }
 
 /// `path:line:column` of a Rhai position.
@@ -96,11 +137,17 @@ pub(crate) fn located(path: &Path, err: EvalAltResult, engine: &Engine) -> Locat
         }
     }
     let mut message = match &err {
-        EvalAltResult::ErrorTooManyOperations(_) => format!(
-            "operation limit of {} exceeded (an endless loop?); the script was stopped",
-            engine.max_operations()
+        EvalAltResult::ErrorTerminated(value, _) => match value.clone().try_cast::<BudgetStop>() {
+            Some(BudgetStop(exceeded)) => exceeded.to_string(),
+            None => value.to_string(),
+        },
+        EvalAltResult::ErrorStackOverflow(_) => format!(
+            "more than {} nested function calls (endless recursion?)",
+            engine.max_call_levels()
         ),
         EvalAltResult::ErrorRuntime(value, _) => value.to_string(),
+        EvalAltResult::ErrorPropertyNotFound(key, _) => missing_key(key),
+        EvalAltResult::ErrorDataTooLarge(what, _) => too_large(what, engine),
         other => {
             let mut text = other.to_string();
             // Rhai appends " (line l, position c)"; the position is given separately.
@@ -111,11 +158,37 @@ pub(crate) fn located(path: &Path, err: EvalAltResult, engine: &Engine) -> Locat
         }
     };
     if !calls.is_empty() {
-        message.push_str(&format!(" (in function {})", calls.join(" <- ")));
+        // Closures have generated names (`anon$…`).
+        let names: Vec<&str> = calls
+            .iter()
+            .map(|c| match c.starts_with("anon$") {
+                true => "a closure",
+                false => c.as_str(),
+            })
+            .collect();
+        message.push_str(&format!(" (in function {})", names.join(" <- ")));
     }
     Located::Message {
         at: position(path, pos),
         message,
+    }
+}
+
+/// Rhai's "… too large" with the limit that was passed.
+fn too_large(what: &str, engine: &Engine) -> String {
+    match what {
+        "Length of string" => format!(
+            "string too long: the strings in one value hold at most {} bytes",
+            engine.max_string_size()
+        ),
+        "Size of object map" => format!(
+            "map too large: one map (with the maps inside it) holds at most {} entries",
+            engine.max_map_size()
+        ),
+        _ => format!(
+            "array too long: one array (with the arrays inside it) holds at most {} elements",
+            engine.max_array_size()
+        ),
     }
 }
 

@@ -6,8 +6,9 @@ use rhai::{Dynamic, Engine, Map};
 
 use super::errors::Res;
 use super::parts::Parts;
-use super::values::{any_number, array, log_error};
+use super::values::{any_number, array, log_error, suggest};
 use crate::results::RunRecord;
+use crate::sim::channel_list;
 
 /// The channels of `record` as a map name → array of floats, plus `time`.
 pub(crate) fn channel_map(record: &RunRecord) -> Map {
@@ -17,6 +18,18 @@ pub(crate) fn channel_map(record: &RunRecord) -> Map {
         m.insert(c.name.as_str().into(), Dynamic::from_array(array(&c.data)));
     }
     m
+}
+
+/// The message for reading `key` that a map does not have (an error in
+/// `evaluate` only): the closest channel name when there is one.
+pub(crate) fn missing_key(key: &str) -> String {
+    let mut names: Vec<String> = channel_list().into_iter().map(|(n, ..)| n).collect();
+    names.push("time".into());
+    let names: Vec<&str> = names.iter().map(String::as_str).collect();
+    match suggest(key, &names) {
+        hint if hint.is_empty() => format!("no key `{key}` in the map"),
+        hint => format!("no channel `{key}`{hint}; `yawdyn show FILE` lists the channels"),
+    }
 }
 
 /// A criterion limit: a number, or `()` for none.

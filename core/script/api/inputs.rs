@@ -6,6 +6,7 @@ use rhai::{Array, Dynamic, Engine, FnPtr, Map};
 
 use super::errors::{Res, script_error};
 use super::parts::Parts;
+use super::ranges::{NON_NEGATIVE, UNIT_RANGE, check_signal, check_value, range_of};
 use super::values::{direction, num, numbers, signal_error, signal_of, suggest};
 use crate::manoeuvre::{Path as DrivePath, Signal};
 use crate::script::runner::{Held, OpenInput, TickState};
@@ -30,12 +31,16 @@ fn register_signals(engine: &mut Engine, parts: &Parts) {
         let p = parts.clone();
         engine.register_fn(name, move |v: Dynamic| -> Res<()> {
             let signal = signal_of(&v, name)?;
+            if let Some(range) = range_of(input) {
+                check_signal(name, &signal, range)?;
+            }
             p.inputs(|i| i.set_open(input, signal))
         });
     }
     let p = parts.clone();
     engine.register_fn("hold_speed", move |v: Dynamic| -> Res<()> {
         let target = signal_of(&v, "target speed")?;
+        check_signal("hold_speed: target speed", &target, NON_NEGATIVE)?;
         p.inputs(|i| i.hold_speed(target))
     });
     let p = parts.clone();
@@ -137,8 +142,9 @@ const COMMAND_KEYS: [&str; 7] = [
     "wheel_brake",
 ];
 
-/// Reads the map (or unit) a controller returns.
-pub(crate) fn controller_output(out: Dynamic) -> Res<Held> {
+/// Reads the map (or unit) a controller returns at time `t` (s); a command
+/// outside its range is an error naming the key, the value and the time.
+pub(crate) fn controller_output(out: Dynamic, t: f64) -> Res<Held> {
     let mut held = Held::default();
     if out.is_unit() {
         return Ok(held);
@@ -149,8 +155,12 @@ pub(crate) fn controller_output(out: Dynamic) -> Res<Held> {
             out.type_name()
         )));
     };
+    let checked = |key: &str, x: f64, range| {
+        check_value(&format!("controller output `{key}` at t = {t} s"), x, range).map(|()| x)
+    };
     for (key, v) in &map {
-        let share = |what| -> Res<Option<f64>> { Ok(Some(num(v, what)?.clamp(0.0, 1.0))) };
+        let share =
+            |what| -> Res<Option<f64>> { checked(key, num(v, what)?, UNIT_RANGE).map(Some) };
         match key.as_str() {
             "steer" => held.steer = Some(num(v, "controller `steer`")?),
             "drive" => held.drive = share("controller `drive`")?,
@@ -158,7 +168,12 @@ pub(crate) fn controller_output(out: Dynamic) -> Res<Held> {
             "front_share" => held.front_share = share("controller `front_share`")?,
             "axle_torque" => held.axle_torque = Some(fixed::<2>(v, key)?),
             "wheel_torque" => held.wheel_torque = fixed::<4>(v, key)?,
-            "wheel_brake" => held.wheel_brake = fixed::<4>(v, key)?.map(|b| b.max(0.0)),
+            "wheel_brake" => {
+                held.wheel_brake = fixed::<4>(v, key)?;
+                for b in held.wheel_brake {
+                    checked(key, b, NON_NEGATIVE)?;
+                }
+            }
             other => {
                 return Err(script_error(format!(
                     "controller returned unknown command `{other}`{}; commands are {}",
@@ -200,21 +215,29 @@ mod tests {
             "axle_torque".into(),
             Dynamic::from_array(array(&[100.0, 200.0])),
         );
-        let h = controller_output(Dynamic::from_map(m)).unwrap();
-        assert_eq!(h.drive, Some(1.0), "drive clamped to 0..1");
+        let err = controller_output(Dynamic::from_map(m.clone()), 2.5)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("controller output `drive` at t = 2.5 s = 1.5 is outside its range 0…1"),
+            "{err}"
+        );
+        m.insert("drive".into(), Dynamic::from_float(1.0));
+        let h = controller_output(Dynamic::from_map(m), 2.5).unwrap();
+        assert_eq!(h.drive, Some(1.0));
         assert_eq!(h.axle_torque, Some([100.0, 200.0]));
         let mut bad = Map::new();
         bad.insert("steering".into(), Dynamic::from_float(0.0));
-        let err = controller_output(Dynamic::from_map(bad))
+        let err = controller_output(Dynamic::from_map(bad), 0.0)
             .unwrap_err()
             .to_string();
         assert!(err.contains("unknown command `steering`"), "{err}");
         let mut short = Map::new();
         short.insert("wheel_brake".into(), Dynamic::from_array(array(&[1.0])));
-        let err = controller_output(Dynamic::from_map(short))
+        let err = controller_output(Dynamic::from_map(short), 0.0)
             .unwrap_err()
             .to_string();
         assert!(err.contains("must have 4 numbers, got 1"), "{err}");
-        assert!(controller_output(Dynamic::UNIT).is_ok());
+        assert!(controller_output(Dynamic::UNIT, 0.0).is_ok());
     }
 }

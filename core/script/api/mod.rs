@@ -8,6 +8,7 @@
 //!   `analysis`: the functions of one topic each;
 //! - `parts`: the parts of a run as the functions share them (one lock per
 //!   part, held only inside a closure that runs no script code);
+//! - `ranges`: the documented ranges of the commands and the size of signals;
 //! - `values`, `errors`: conversions between script values, Rust values and errors;
 //! - `params`: the manoeuvre parameters a script reads, from its syntax tree;
 //! - `execute`: one run from text to record.
@@ -21,12 +22,12 @@ mod inputs;
 mod params;
 mod parts;
 mod phases;
+mod ranges;
 mod setup;
 mod signals;
 mod state;
 mod units;
 mod values;
 
-pub use engine::MAX_OPERATIONS;
 pub(crate) use execute::{Request, execute};
 pub use execute::{check_manoeuvre_keys, manoeuvre_parameters};

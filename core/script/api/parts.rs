@@ -15,6 +15,7 @@ use rhai::FnPtr;
 use super::errors::{Res, script_error};
 use super::values::setup_error;
 use crate::params::Override;
+use crate::script::budget::{Budget, Limits};
 use crate::script::error::ScriptPosition;
 use crate::script::log::RunLog;
 use crate::script::runner::{Inputs, Runner};
@@ -79,24 +80,31 @@ pub(crate) struct Parts {
     pub(crate) phases: Part<Phases>,
     /// Receives (simulation time, planned end of the phase), s.
     pub(crate) progress: Option<Part<mpsc::Sender<(f64, f64)>>>,
+    /// What the run has spent of its budgets (no lock: atomic counters).
+    pub(crate) budget: Arc<Budget>,
 }
 
 impl Parts {
-    /// The parts of a run of the script at `script` with the caller's choices.
+    /// The parts of a run of the script at `script` with the caller's
+    /// choices; the budgets start now, on this thread.
     pub(crate) fn new(
         script: &Path,
         vehicle: Option<PathBuf>,
         overrides: &[Override],
         progress: Option<mpsc::Sender<(f64, f64)>>,
+        limits: Limits,
     ) -> Self {
+        let budget = Arc::new(Budget::new(limits));
+        let setup = Setup::new(script, vehicle, overrides).with_limits(limits, budget.started());
         Self {
             script: Arc::new(script.to_path_buf()),
-            setup: Part::new(Setup::new(script, vehicle, overrides)),
+            setup: Part::new(setup),
             stage: Part::new(Stage::Declaring(Box::default())),
             log: Part::new(RunLog::default()),
             controller: Part::new(None),
             phases: Part::new(Phases::default()),
             progress: progress.map(Part::new),
+            budget,
         }
     }
 

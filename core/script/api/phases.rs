@@ -9,10 +9,11 @@
 
 use rhai::{Dynamic, Engine, Map, NativeCallContext};
 
-use super::errors::{Res, position, script_error, terminated};
+use super::errors::{Res, position, script_error, terminated, uncatchable};
 use super::inputs::controller_output;
 use super::parts::{Parts, Stage};
 use super::values::{as_number, log_error, num, suggest};
+use crate::script::budget::sample_bytes;
 use crate::script::runner::{Conditions, Held, TickState, TickStep, Until};
 
 /// Registers the phase functions.
@@ -101,7 +102,14 @@ fn run_phase(parts: &Parts, ctx: &NativeCallContext, until: Until) -> Res<&'stat
 
 /// The tick loop of one phase: poll → controller → hold → advance → report.
 fn tick_loop(parts: &Parts, ctx: &NativeCallContext, until: Until) -> Res<&'static str> {
-    let mut phase = parts.runner(|r| r.begin(until))?;
+    let mut phase = match parts.runner(|r| r.begin(until))? {
+        Ok(phase) => phase,
+        Err(_) => return Err(terminated()),
+    };
+    // The samples planned for the phase are not the script's memory (a
+    // growing buffer may take twice their size).
+    let planned = parts.runner(|r| r.samples_until(phase.planned_end))?;
+    parts.budget.allow(2 * sample_bytes(planned));
     loop {
         let s = match parts.runner(|r| r.poll(&mut phase))? {
             Ok(TickStep::End(name)) => return Ok(name),
@@ -110,7 +118,10 @@ fn tick_loop(parts: &Parts, ctx: &NativeCallContext, until: Until) -> Res<&'stat
         };
         let controller = parts.controller.with(|c| c.clone());
         let held = match controller {
-            Some(f) => controller_output(f.call_within_context(ctx, (s,))?)?,
+            Some(f) => {
+                let out = f.call_within_context(ctx, (s,)).map_err(uncatchable)?;
+                controller_output(out, s.time)?
+            }
             None => Held::default(),
         };
         let advanced = parts.runner(|r| {

@@ -1,9 +1,11 @@
 //! Open-loop signal constructors and arithmetic (`step`, `ramp`, `sine`,
-//! `sine_with_dwell`, `chirp`, `table`, `sequence`, `+`, `*`, `-`).
+//! `sine_with_dwell`, `chirp`, `table`, `sequence`, `+`, `*`, `-`); a
+//! combined signal is refused when too large or deep (`ranges::sized`).
 
 use rhai::{Array, Dynamic, Engine};
 
 use super::errors::Res;
+use super::ranges::sized;
 use super::values::{direction, num, numbers, signal_error, signal_of};
 use crate::manoeuvre::Signal;
 
@@ -87,31 +89,44 @@ fn register_combinations(engine: &mut Engine) {
             numbers(&values, "table value")?,
         )
         .map_err(signal_error)
+        .and_then(sized)
     });
     engine.register_fn("sequence", |signals: Array, switch: Array| -> Res<Signal> {
         let s = signals
             .iter()
             .map(|v| signal_of(v, "sequence entry"))
             .collect::<Res<Vec<_>>>()?;
-        Signal::sequence(s, numbers(&switch, "switch time")?).map_err(signal_error)
+        Signal::sequence(s, numbers(&switch, "switch time")?)
+            .map_err(signal_error)
+            .and_then(sized)
     });
     engine.register_fn("+", |a: Signal, b: Signal| -> Res<Signal> {
-        Signal::sum(vec![a, b]).map_err(signal_error)
+        Signal::sum(vec![a, b])
+            .map_err(signal_error)
+            .and_then(sized)
     });
     engine.register_fn("+", |a: Signal, b: Dynamic| -> Res<Signal> {
-        a.offset(num(&b, "offset")?).map_err(signal_error)
+        a.offset(num(&b, "offset")?)
+            .map_err(signal_error)
+            .and_then(sized)
     });
     engine.register_fn("+", |b: Dynamic, a: Signal| -> Res<Signal> {
-        a.offset(num(&b, "offset")?).map_err(signal_error)
+        a.offset(num(&b, "offset")?)
+            .map_err(signal_error)
+            .and_then(sized)
     });
     engine.register_fn("*", |a: Signal, k: Dynamic| -> Res<Signal> {
-        a.scaled(num(&k, "gain")?).map_err(signal_error)
+        a.scaled(num(&k, "gain")?)
+            .map_err(signal_error)
+            .and_then(sized)
     });
     engine.register_fn("*", |k: Dynamic, a: Signal| -> Res<Signal> {
-        a.scaled(num(&k, "gain")?).map_err(signal_error)
+        a.scaled(num(&k, "gain")?)
+            .map_err(signal_error)
+            .and_then(sized)
     });
     engine.register_fn("-", |a: Signal| -> Res<Signal> {
-        a.scaled(-1.0).map_err(signal_error)
+        a.scaled(-1.0).map_err(signal_error).and_then(sized)
     });
     engine.register_fn("value", |s: &mut Signal, t: Dynamic| -> Res<f64> {
         Ok(s.value(num(&t, "time")?))

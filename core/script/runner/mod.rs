@@ -13,7 +13,7 @@
 //!     drivers (speed hold, path follower) see sₖ          → driver commands
 //!     controller f(sₖ) (script or Rust)                   → controller commands
 //!     held = controller › drivers, constant on [tₖ, tₖ₊₁)  (zero-order hold)
-//!     if tₖ₊₁ > time limit                                → run stops, failed
+//!     if tₖ₊₁ > time limit, or the wall-clock budget is spent → run stops, failed
 //!     Simulation::advance(tₖ₊₁, inputs): integrate with held commands and
 //!         open-loop signals evaluated at the solver's own times; samples at
 //!         j/sample_rate in (tₖ, tₖ₊₁]                     → on failure: run stops, failed
@@ -38,6 +38,7 @@ pub use view::{STEADY_QUANTITIES, TickState, ViewIndex};
 use std::collections::VecDeque;
 use std::sync::Arc;
 
+use super::budget::{Exceeded, sample_bytes};
 use super::setup::RunConfig;
 use crate::manoeuvre::{Path, PathFollower};
 use crate::model::straight_running;
@@ -66,6 +67,14 @@ pub enum RunStop {
         /// Simulation time, s.
         time: f64,
     },
+    /// A budget of the run (wall-clock time, sample memory) is spent.
+    #[error("{exceeded}")]
+    Budget {
+        /// Which budget.
+        exceeded: Exceeded,
+        /// Simulation time, s.
+        time: f64,
+    },
 }
 
 impl RunStop {
@@ -73,7 +82,9 @@ impl RunStop {
     pub fn time(&self) -> f64 {
         match self {
             Self::Diverged(e) => e.time(),
-            Self::Timeout { time, .. } | Self::TimeLimit { time, .. } => *time,
+            Self::Timeout { time, .. }
+            | Self::TimeLimit { time, .. }
+            | Self::Budget { time, .. } => *time,
         }
     }
 }
@@ -177,19 +188,43 @@ impl Runner {
         (seconds * self.config.tick_rate_hz).round() as u64
     }
 
-    /// A phase that starts at the current tick.
-    pub fn begin(&self, until: Until) -> Phase {
+    /// A phase that starts at the current tick. The run stops (sample
+    /// memory budget) if the samples up to the phase's planned end (or the
+    /// simulated-time limit, if earlier) would take more memory than the
+    /// budget allows.
+    pub fn begin(&mut self, until: Until) -> Result<Phase, RunStop> {
+        if let Some(stop) = &self.stop {
+            return Err(stop.clone());
+        }
         let rate = self.config.tick_rate_hz;
         let planned_end = match &until {
-            Until::Ticks(n) => (self.tick + n) as f64 / rate,
+            Until::Ticks(n) => self.tick.saturating_add(*n) as f64 / rate,
             Until::Conditions(c) => self.tick as f64 / rate + c.max_time,
         };
-        Phase {
+        let samples = self.samples_until(planned_end);
+        let (bytes, limit) = (sample_bytes(samples), self.config.limits.max_sample_bytes);
+        if bytes > limit {
+            let exceeded = Exceeded::SampleMemory {
+                end_s: planned_end.min(self.config.limits.max_sim_time_s),
+                samples,
+                bytes,
+                limit,
+            };
+            let time = self.time();
+            return Err(self.stop_with(RunStop::Budget { exceeded, time }));
+        }
+        Ok(Phase {
             until,
             start_tick: self.tick,
             history: VecDeque::new(),
             planned_end,
-        }
+        })
+    }
+
+    /// Samples recorded from t = 0 up to `end` (s, at most the simulated-time limit).
+    pub fn samples_until(&self, end: f64) -> u64 {
+        let end = end.min(self.config.limits.max_sim_time_s).max(0.0);
+        (end * self.config.sample_rate_hz).floor() as u64 + 1
     }
 
     /// Whether `phase` ends at the current tick; if not, runs the drivers and
@@ -231,12 +266,19 @@ impl Runner {
     /// becomes the current state.
     pub fn advance(&mut self, phase: &mut Phase) -> Result<(), RunStop> {
         let t_next = (self.tick + 1) as f64 / self.config.tick_rate_hz;
-        let limit = self.config.limits.max_sim_time_s;
-        if t_next > limit + 1e-9 {
+        let limits = self.config.limits;
+        if t_next > limits.max_sim_time_s + 1e-9 {
             return Err(self.stop_with(RunStop::TimeLimit {
-                limit,
+                limit: limits.max_sim_time_s,
                 time: self.time(),
             }));
+        }
+        if self.config.started.elapsed().as_secs_f64() > limits.max_wall_s {
+            let exceeded = Exceeded::WallTime {
+                limit_s: limits.max_wall_s,
+            };
+            let time = self.time();
+            return Err(self.stop_with(RunStop::Budget { exceeded, time }));
         }
         if let Err(e) = self.sim.advance(t_next, &self.inputs) {
             return Err(self.stop_with(RunStop::Diverged(e)));
@@ -277,7 +319,7 @@ impl Runner {
         until: Until,
         mut controller: impl FnMut(&TickState) -> Held,
     ) -> Result<&'static str, RunStop> {
-        let mut phase = self.begin(until);
+        let mut phase = self.begin(until)?;
         loop {
             let s = match self.poll(&mut phase)? {
                 TickStep::End(name) => return Ok(name),
