@@ -19,9 +19,12 @@
 //! 2006), ch. 4; the MF 5.2 details are written from memory (see each doc
 //! comment).
 
+mod approx;
 mod coefficients;
 pub mod inspect;
+pub mod lanes;
 mod model;
 
 pub use coefficients::{CoefficientIssue, MagicFormulaCoefficients};
+pub use lanes::TyreLanes;
 pub use model::{CombinedSlip, TyreForce, TyreModel};
