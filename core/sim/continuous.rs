@@ -70,6 +70,8 @@ pub(super) struct Continuous {
     output: StepOutput,
     /// Channel values at the interpolation nodes of the last step.
     nodes: Box<[Row; N_NODES]>,
+    /// Channel values of the samples of one step (scratch, reused).
+    batch: Vec<Row>,
 }
 
 impl Continuous {
@@ -83,6 +85,7 @@ impl Continuous {
             at_end: None,
             output: StepOutput::Undecided,
             nodes: Box::new([[0.0; N_CHANNELS]; N_NODES]),
+            batch: Vec::new(),
         }
     }
 
@@ -233,8 +236,15 @@ impl Simulation {
             self.recorder.push_interpolated(t0, t1, limit, &run.nodes);
             return;
         }
-        while self.recorder.due(limit) {
-            let ts = self.recorder.next_time();
+        // Every sample of the step due by `limit`, evaluated together (the
+        // steering angles of a held command computed once) and recorded
+        // channel-major in one pass.
+        let table = ChannelTable::get();
+        let mut batch = std::mem::take(&mut run.batch);
+        batch.clear();
+        let first = self.recorder.next_index();
+        for k in first..first + self.recorder.count_due(limit) {
+            let ts = self.recorder.time_of(k);
             // At the step's end (within rounding): the solver's own evaluation.
             let at_end = run
                 .at_end
@@ -243,9 +253,10 @@ impl Simulation {
                 self.output_evaluations += 1;
                 Captured::evaluate(model, inputs, ts, &run.stepper.dense(ts))
             });
-            let outputs = self.outputs_of(ts, &captured);
-            self.recorder.push(&outputs);
+            batch.push(table.row(&self.outputs_of(ts, &captured)));
         }
+        self.recorder.push_rows(&batch);
+        run.batch = batch;
     }
 
     /// Direct or interpolated samples for the last step; fills the nodes for
