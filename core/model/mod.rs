@@ -13,7 +13,7 @@
 //! | wheel loads | `loads.rs` | [`Chassis`](crate::params::Chassis), aero | Fz per wheel |
 //! | steering | `steering.rs` | [`Steering`](crate::params::Steering) | road-wheel angles |
 //! | powertrain and brakes | `powertrain.rs` (with `units.rs`, `store.rs`, `brakes.rs`) | [`Powertrain`](crate::params::Powertrain), [`Brakes`](crate::params::Brakes) | drive and brake torque per wheel; power, fuel and energy flows |
-//! | tyres | `tyres.rs` | [`AxleTyre`](crate::params::AxleTyre), [`Road`](crate::params::Road) | contact-patch velocities, tyre forces |
+//! | tyres | `tyres.rs` | [`Prepared`] (tyre lanes from [`AxleTyre`](crate::params::AxleTyre), [`Road`](crate::params::Road)) | contact-patch velocities, tyre forces |
 //! | chassis equations | `chassis.rs` | chassis | body, roll, pitch derivatives; ax, ay |
 //! | wheel equations | `wheels.rs` | tyres | wheel spin and slip derivatives |
 //! | energy equations | `powertrain.rs` | powertrain | fuel used and stored energy derivatives |
@@ -32,6 +32,11 @@
 //!   (motoring and generating limits, efficiencies), per-axle differentials,
 //!   friction brakes blended with regenerative braking; fuel used and stored
 //!   energy are integrated states.
+//!
+//! Constants that follow from the parameters alone are prepared once per
+//! vehicle ([`Prepared`], `prepared.rs`) and the steering angles once per
+//! steering command ([`SteerAngles`]); [`evaluate_prepared`] is the inner loop,
+//! [`evaluate`] prepares both on every call.
 //!
 //! It does not integrate (see [`crate::sim`]) and does not know about
 //! manoeuvres or files.

@@ -135,7 +135,7 @@ pub fn envelope_directions(n: usize) -> Vec<f64> {
 /// ```no_run
 /// # fn demo(vehicle: &yawdyn::params::Vehicle) -> Result<(), yawdyn::quasi_static::QuasiStaticError> {
 /// use yawdyn::quasi_static::{EnvelopeSettings, envelope_at_speed};
-/// let e = envelope_at_speed(vehicle, 30.0, vehicle.front_share, &EnvelopeSettings::default())?;
+/// let e = envelope_at_speed(vehicle, 30.0, vehicle.powertrain.front_share, &EnvelopeSettings::default())?;
 /// let widest = e.points.iter().map(|p| p.lat_accel).fold(0.0, f64::max);
 /// println!("largest lateral acceleration {widest} m/s^2");
 /// # Ok(()) }

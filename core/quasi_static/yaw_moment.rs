@@ -188,7 +188,7 @@ impl YawMomentDiagram {
 /// ```no_run
 /// # fn demo(vehicle: &yawdyn::params::Vehicle) -> Result<(), yawdyn::quasi_static::QuasiStaticError> {
 /// use yawdyn::quasi_static::{Condition, DiagramSettings, Longitudinal, yaw_moment_diagram};
-/// let condition = Condition { speed: 25.0, front_share: vehicle.front_share,
+/// let condition = Condition { speed: 25.0, front_share: vehicle.powertrain.front_share,
 ///                             longitudinal: Longitudinal::FreeRolling };
 /// let grid: Vec<f64> = (-10..=10).map(|k| (0.8 * k as f64).to_radians()).collect();
 /// let d = yaw_moment_diagram(vehicle, &condition, &grid, &grid, &DiagramSettings::default())?;
