@@ -11,7 +11,9 @@ use std::time::Instant;
 use serde::Serialize;
 
 use crate::manoeuvre::SpeedController;
-use crate::model::{Commands, VX, VY, YAW_RATE, evaluate, straight_running};
+use crate::model::{
+    Commands, Prepared, SteerAngles, VX, VY, YAW_RATE, evaluate_prepared, straight_running,
+};
 use crate::params::Vehicle;
 use crate::sim::{InputSource, SimError, Simulation, SolverSettings};
 
@@ -63,6 +65,25 @@ impl Spread {
     }
 }
 
+/// A rate from repeated timings: best (from the shortest time) and median.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Rate {
+    /// From the shortest time.
+    pub best: f64,
+    /// From the median time.
+    pub median: f64,
+}
+
+impl Rate {
+    /// `amount` per unit of the timed quantity.
+    fn of(amount: f64, time: Spread) -> Self {
+        Self {
+            best: amount / time.min,
+            median: amount / time.median,
+        }
+    }
+}
+
 /// Figures of one timed run.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct RunFigures {
@@ -74,10 +95,10 @@ pub struct RunFigures {
     pub wall_s: Spread,
     /// CPU time of one run (measuring thread), s; NaN where not available.
     pub cpu_s: Spread,
-    /// Simulated time / median wall time.
-    pub real_time_factor: f64,
-    /// Simulated time / median CPU time.
-    pub real_time_factor_cpu: f64,
+    /// Simulated time / wall time.
+    pub real_time_factor: Rate,
+    /// Simulated time / CPU time.
+    pub real_time_factor_cpu: Rate,
     /// Derivative evaluations the solver made.
     pub evaluations: u64,
     /// The same per simulated second, 1/s.
@@ -95,8 +116,11 @@ pub struct BenchReport {
     pub duration_s: f64,
     /// Repeats of each measurement.
     pub repeats: usize,
-    /// Wall time of one derivative evaluation, ns.
+    /// Wall time of one derivative evaluation (prepared vehicle, steering
+    /// held), ns.
     pub ns_per_derivative: Spread,
+    /// CPU time of the same, ns.
+    pub ns_per_derivative_cpu: Spread,
     /// The timed runs.
     pub runs: Vec<RunFigures>,
     /// Evaluations of the closed-loop ticked run / its replay as one segment.
@@ -104,6 +128,9 @@ pub struct BenchReport {
     /// Largest |yaw-rate difference| of the closed-loop ticked run against
     /// the same run at rtol = atol = 1e-10, rad/s.
     pub closed_loop_yaw_rate_error: f64,
+    /// Largest |yaw-rate difference| of the open-loop 1 kHz run against the
+    /// same run at rtol = atol = 1e-10, rad/s.
+    pub open_loop_yaw_rate_error: f64,
     /// Lateral acceleration at the end of the open-loop run, m/s² (shows the
     /// run is meaningful).
     pub final_lat_accel: f64,
@@ -297,7 +324,7 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
     // Interleaved repeats of every run, and of the derivative loop.
     let mut wall = vec![Vec::new(); RUNS.len()];
     let mut cpu = vec![Vec::new(); RUNS.len()];
-    let mut ns = Vec::new();
+    let (mut ns, mut ns_cpu) = (Vec::new(), Vec::new());
     let mut last: Vec<Option<Simulation>> = RUNS.iter().map(|_| None).collect();
     for _ in 0..options.repeats.max(1) {
         for (i, (_, _, scenario)) in RUNS.iter().enumerate() {
@@ -306,7 +333,9 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
             cpu[i].push(c);
             last[i] = Some(result?.0);
         }
-        ns.push(ns_per_derivative(&bench, closed.state()));
+        let (wall, cpu) = ns_per_derivative(&bench, closed.state());
+        ns.push(wall);
+        ns_cpu.push(cpu);
     }
     let runs = RUNS
         .iter()
@@ -320,8 +349,8 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
                 description,
                 wall_s,
                 cpu_s,
-                real_time_factor: options.duration / wall_s.median,
-                real_time_factor_cpu: options.duration / cpu_s.median,
+                real_time_factor: Rate::of(options.duration, wall_s),
+                real_time_factor_cpu: Rate::of(options.duration, cpu_s),
                 evaluations: sim.evaluations(),
                 evaluations_per_second: sim.evaluations() as f64 / options.duration,
                 output_evaluations: sim.output_evaluations(),
@@ -330,6 +359,7 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
         })
         .collect();
     let (open, _) = bench.run(RUNS[0].2, settings, &replay)?;
+    let (open_reference, _) = bench.run(RUNS[0].2, tight, &replay)?;
     let final_lat_accel = open
         .channel("ay")
         .and_then(|c| c.last().copied())
@@ -338,26 +368,40 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
         duration_s: options.duration,
         repeats: options.repeats.max(1),
         ns_per_derivative: Spread::of(&mut ns),
+        ns_per_derivative_cpu: Spread::of(&mut ns_cpu),
         runs,
         closed_loop_evaluation_ratio,
         closed_loop_yaw_rate_error: yaw_rate_error,
+        open_loop_yaw_rate_error: max_difference(&open, &open_reference, "yaw_rate"),
         final_lat_accel,
     })
 }
 
-/// Mean wall time of one derivative evaluation near `state`, ns.
-fn ns_per_derivative(bench: &Bench, state: &crate::model::State) -> f64 {
+/// Mean wall and CPU time of one derivative evaluation near `state`, ns:
+/// the inner loop as the solver calls it (vehicle prepared once, steering
+/// angles of the held command computed once).
+fn ns_per_derivative(bench: &Bench, state: &crate::model::State) -> (f64, f64) {
     let n = 50_000;
-    let mut acc = 0.0;
+    let prepared = Prepared::new(bench.vehicle);
+    let steer = SteerAngles::new(bench.vehicle, bench.commands.steer_wheel_angle);
     let mut x = *state;
-    let start = Instant::now();
-    for i in 0..n {
-        x[VY] = state[VY] + 1e-12 * (i % 7) as f64;
-        let e = evaluate(bench.vehicle, std::hint::black_box(&x), &bench.commands);
-        acc += e.derivative[YAW_RATE];
-    }
+    let (acc, wall, cpu) = timed(|| {
+        let mut acc = 0.0;
+        for i in 0..n {
+            x[VY] = state[VY] + 1e-12 * (i % 7) as f64;
+            let e = evaluate_prepared(
+                bench.vehicle,
+                &prepared,
+                &steer,
+                std::hint::black_box(&x),
+                &bench.commands,
+            );
+            acc += e.derivative[YAW_RATE];
+        }
+        acc
+    });
     std::hint::black_box(acc);
-    start.elapsed().as_secs_f64() * 1e9 / n as f64
+    (wall * 1e9 / n as f64, cpu * 1e9 / n as f64)
 }
 
 /// Largest |difference| of a channel between two runs sampled alike.

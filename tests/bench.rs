@@ -54,10 +54,29 @@ fn bench_reports_every_run_and_ticks_cost_no_extra_evaluations() {
             text.stdout
         );
     }
+    // Every figure of the JSON has its row: derivative time as wall and CPU
+    // time, min and median; both accuracy figures.
+    for key in ["ns_per_derivative", "ns_per_derivative_cpu"] {
+        let s = &report[key];
+        assert!(s["min"].as_f64().unwrap() > 0.0 && s["median"].as_f64().unwrap() > 0.0);
+    }
+    for r in runs {
+        for key in ["real_time_factor", "real_time_factor_cpu"] {
+            assert!(r[key]["best"].as_f64().unwrap() >= r[key]["median"].as_f64().unwrap());
+        }
+    }
+    assert!(report["open_loop_yaw_rate_error"].as_f64().unwrap() < 1e-4);
     for measure in [
-        "derivative evaluation",
+        "derivative evaluation (wall), min / median",
+        "derivative evaluation (CPU), min / median",
+        "real-time factor (wall) best / median",
+        "real-time factor (CPU) best / median",
         "closed-loop evaluations",
-        "yaw-rate error",
+        "closed-loop yaw-rate error",
+        "open-loop yaw-rate error",
+        "final lateral acceleration",
+        "evaluations per s",
+        "output evaluations",
     ] {
         assert!(text.stdout.contains(measure), "{measure}");
     }

@@ -1,6 +1,7 @@
 //! Stage 6a, chassis equations: the planar body motion, roll and pitch, and
 //! the filter of the lateral acceleration used by the roll-centre transfer.
 
+use super::prepared::{ChassisConstants, WheelConstants};
 use super::state::{
     AY_GEOMETRIC, PITCH, PITCH_RATE, ROLL, ROLL_RATE, State, VX, VY, X, Y, YAW, YAW_RATE,
 };
@@ -38,10 +39,14 @@ pub struct BodyAcceleration {
 ///   steady state the elastic transfer is m·ax·h/L (Milliken & Milliken,
 ///   ch. 18); the CG shift due to pitch (m·g·h·θ) is neglected, as in that formula;
 /// - τ·ȧyg = ay − ayg, the filter of the roll-centre transfer.
+///
+/// Divisions by m, Iz, Ixx and Iyy are multiplications by the reciprocals of
+/// [`ChassisConstants`].
 #[inline(always)]
 pub fn chassis_equations(
     c: &Chassis,
-    positions: &[(f64, f64); 4],
+    k: &ChassisConstants,
+    wheels: &WheelConstants,
     patches: &ContactPatches,
     drag_force: f64,
     x: &State,
@@ -52,7 +57,8 @@ pub fn chassis_equations(
     let m = c.mass;
     // Tyre forces in body axes, their sum and their yaw moment about the CG.
     let (mut sum_fx, mut sum_fy, mut yaw_moment) = (0.0, 0.0, 0.0);
-    for (i, &(px, py)) in positions.iter().enumerate() {
+    for i in 0..4 {
+        let (px, py) = (wheels.px[i], wheels.py[i]);
         let (sin_d, cos_d) = (patches.sin_steer[i], patches.cos_steer[i]);
         let fx_body = patches.fx[i] * cos_d - patches.fy[i] * sin_d;
         let fy_body = patches.fx[i] * sin_d + patches.fy[i] * cos_d;
@@ -60,7 +66,7 @@ pub fn chassis_equations(
         sum_fy += fy_body;
         yaw_moment += px * fy_body - py * fx_body;
     }
-    let inv_m = 1.0 / m;
+    let inv_m = k.inv_mass;
     let ax = (sum_fx + drag_force) * inv_m;
     let ay = sum_fy * inv_m;
     // Planar body motion and pose.
@@ -70,20 +76,19 @@ pub fn chassis_equations(
     d[YAW] = r;
     d[VX] = ax + r * vy;
     d[VY] = ay - r * vx;
-    d[YAW_RATE] = yaw_moment / c.yaw_inertia;
+    d[YAW_RATE] = yaw_moment * k.inv_yaw_inertia;
     // Roll about the roll axis and pitch about the ground.
-    let arm = c.roll_arm();
-    let roll_stiffness = c.roll_stiffness[0] + c.roll_stiffness[1];
-    let roll_damping = c.roll_damping[0] + c.roll_damping[1];
+    let arm = k.roll_arm;
+    let (roll_stiffness, roll_damping) = (k.roll_stiffness, k.roll_damping);
     d[ROLL] = roll_rate;
     d[ROLL_RATE] = (m * ay * arm + m * GRAVITY * arm * roll.sin()
         - roll_stiffness * roll
         - roll_damping * roll_rate)
-        / c.roll_inertia;
+        * k.inv_roll_inertia;
     d[PITCH] = pitch_rate;
     d[PITCH_RATE] =
         (-m * ax * c.cg_height - c.pitch_stiffness * pitch - c.pitch_damping * pitch_rate)
-            / c.pitch_inertia;
+            * k.inv_pitch_inertia;
     d[AY_GEOMETRIC] = (ay - x[AY_GEOMETRIC]) / AY_GEOMETRIC_TIME_CONSTANT;
     BodyAcceleration { ax, ay }
 }

@@ -2,6 +2,7 @@
 //! moments of the suspension and the roll-centre (geometric) lateral transfer.
 
 use super::aero::AeroForces;
+use super::prepared::ChassisConstants;
 use super::state::{AY_GEOMETRIC, PITCH, PITCH_RATE, ROLL, ROLL_RATE, State};
 use crate::params::{Aero, Chassis, FRONT, GRAVITY, REAR};
 
@@ -25,9 +26,15 @@ pub fn static_axle_loads(c: &Chassis) -> [f64; 2] {
 /// [`chassis_equations`](super::chassis_equations)), so the elastic transfer
 /// is larger than Milliken & Milliken's m·ay·H·KΦᵢ/KΦ by KΦ/(KΦ − m·g·H).
 #[inline(always)]
-pub fn wheel_loads(c: &Chassis, aero: &Aero, forces: &AeroForces, x: &State) -> [f64; 4] {
-    // Moments about each axle's contact line, over the wheelbase (one division).
-    let (l, inv_l) = (c.wheelbase, 1.0 / c.wheelbase);
+pub fn wheel_loads(
+    c: &Chassis,
+    k: &ChassisConstants,
+    aero: &Aero,
+    forces: &AeroForces,
+    x: &State,
+) -> [f64; 4] {
+    // Moments about each axle's contact line, over the wheelbase (its reciprocal prepared).
+    let (l, inv_l) = (c.wheelbase, k.inv_wheelbase);
     let x_cp = aero.pressure_centre_to_front_axle;
     let weight = c.mass * GRAVITY;
     let pitch_moment = c.pitch_stiffness * x[PITCH] + c.pitch_damping * x[PITCH_RATE];
@@ -44,7 +51,7 @@ pub fn wheel_loads(c: &Chassis, aero: &Aero, forces: &AeroForces, x: &State) -> 
         // A body rolled right side down (φ > 0, ISO 8855) loads the right wheels.
         let elastic = c.roll_stiffness[axle] * x[ROLL] + c.roll_damping[axle] * x[ROLL_RATE];
         let geometric = geometric_moment * lever[axle] * c.roll_centre_height[axle];
-        let transfer = (elastic + geometric) / c.track[axle];
+        let transfer = (elastic + geometric) * k.inv_track[axle];
         fz[2 * axle] = (0.5 * axle_load[axle] - transfer).max(0.0);
         fz[2 * axle + 1] = (0.5 * axle_load[axle] + transfer).max(0.0);
     }

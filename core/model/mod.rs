@@ -13,7 +13,7 @@
 //! | wheel loads | `loads.rs` | [`Chassis`](crate::params::Chassis), aero | Fz per wheel |
 //! | steering | `steering.rs` | [`Steering`](crate::params::Steering) | road-wheel angles |
 //! | powertrain and brakes | `powertrain.rs` (with `units.rs`, `store.rs`, `brakes.rs`) | [`Powertrain`](crate::params::Powertrain), [`Brakes`](crate::params::Brakes) | drive and brake torque per wheel; power, fuel and energy flows |
-//! | tyres | `tyres.rs` | [`AxleTyre`](crate::params::AxleTyre), [`Road`](crate::params::Road) | contact-patch velocities, tyre forces |
+//! | tyres | `tyres.rs` | [`Prepared`] (tyre lanes from [`AxleTyre`](crate::params::AxleTyre), [`Road`](crate::params::Road)) | contact-patch velocities, tyre forces |
 //! | chassis equations | `chassis.rs` | chassis | body, roll, pitch derivatives; ax, ay |
 //! | wheel equations | `wheels.rs` | tyres | wheel spin and slip derivatives |
 //! | energy equations | `powertrain.rs` | powertrain | fuel used and stored energy derivatives |
@@ -33,6 +33,11 @@
 //!   friction brakes blended with regenerative braking; fuel used and stored
 //!   energy are integrated states.
 //!
+//! Constants that follow from the parameters alone are prepared once per
+//! vehicle ([`Prepared`], `prepared.rs`) and the steering angles once per
+//! steering command ([`SteerAngles`]); [`evaluate_prepared`] is the inner loop,
+//! [`evaluate`] prepares both on every call.
+//!
 //! It does not integrate (see [`crate::sim`]) and does not know about
 //! manoeuvres or files.
 
@@ -44,6 +49,7 @@ mod derived;
 pub mod linear;
 mod loads;
 mod powertrain;
+mod prepared;
 mod state;
 mod steering;
 mod store;
@@ -60,8 +66,9 @@ pub use loads::{static_axle_loads, wheel_loads};
 pub use powertrain::{
     PowertrainOutput, WheelTorques, differential_split, energy_equations, powertrain,
 };
+pub use prepared::{ChassisConstants, Prepared, WheelConstants};
 pub use state::*;
-pub use steering::{road_wheel_angles, wheel_positions};
+pub use steering::{SteerAngles, road_wheel_angles, wheel_positions};
 pub use store::{StoreLimits, energy_rate, state_of_charge, store_limits};
 pub use tyres::{ContactPatches, contact_patches};
 pub use units::{
@@ -125,6 +132,10 @@ pub struct Evaluation {
 /// by stage in the order of the equations (see the module documentation and
 /// each stage's own for the equations and their sources).
 ///
+/// Prepares the vehicle's constants and the steering angles on every call:
+/// for repeated evaluations of one vehicle use [`evaluate_prepared`] (the
+/// same computation, bit for bit).
+///
 /// ```
 /// use yawdyn::model::{Commands, evaluate, straight_running, VX};
 /// use yawdyn::params::load_vehicle;
@@ -133,17 +144,49 @@ pub struct Evaluation {
 /// let e = evaluate(&car, &x, &Commands::neutral(&car));
 /// assert!(e.derivative[VX] < 0.0, "coasting slows down: drag and rolling resistance");
 /// ```
-#[inline]
 pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
+    let steer = SteerAngles::new(v, c.steer_wheel_angle);
+    evaluate_prepared(v, &Prepared::new(v), &steer, x, c)
+}
+
+/// [`evaluate`] with the vehicle's constants prepared once ([`Prepared::new`])
+/// and the steering angles computed once per held command
+/// ([`SteerAngles::new`] with `c.steer_wheel_angle`): the inner loop.
+///
+/// ```
+/// use yawdyn::model::{Commands, Prepared, SteerAngles, evaluate, evaluate_prepared, straight_running};
+/// use yawdyn::params::load_vehicle;
+/// let car = load_vehicle("scripts/vehicles/track_car.toml".as_ref(), &[]).unwrap();
+/// let (p, c) = (Prepared::new(&car), Commands::neutral(&car));
+/// let steer = SteerAngles::new(&car, c.steer_wheel_angle);
+/// let x = straight_running(&car, 30.0);
+/// let e = evaluate_prepared(&car, &p, &steer, &x, &c);
+/// assert_eq!(e.derivative, evaluate(&car, &x, &c).derivative);
+/// ```
+#[inline]
+pub fn evaluate_prepared(
+    v: &Vehicle,
+    p: &Prepared,
+    steer: &SteerAngles,
+    x: &State,
+    c: &Commands,
+) -> Evaluation {
+    debug_assert!(steer.is_for(c.steer_wheel_angle));
     let aero = aero_forces(&v.aero, x[VX]);
-    let fz = wheel_loads(&v.chassis, &v.aero, &aero, x);
-    let steer = road_wheel_angles(&v.steering, &v.chassis, c.steer_wheel_angle);
+    let fz = wheel_loads(&v.chassis, &p.chassis, &v.aero, &aero, x);
     let (torques, power) = powertrain(v, x, c);
-    let positions = wheel_positions(&v.chassis);
-    let patches = contact_patches(&v.tyres, &v.road, &positions, &steer, &fz, x);
+    let patches = contact_patches(&p.tyres, &p.wheels, steer, &fz, x);
     let mut d = State::zeros();
-    let body = chassis_equations(&v.chassis, &positions, &patches, aero.drag_force, x, &mut d);
-    wheel_equations(&v.tyres, &fz, &patches, &torques, x, &mut d);
+    let body = chassis_equations(
+        &v.chassis,
+        &p.chassis,
+        &p.wheels,
+        &patches,
+        aero.drag_force,
+        x,
+        &mut d,
+    );
+    wheel_equations(&p.wheels, &fz, &patches, &torques, x, &mut d);
     energy_equations(&power, &mut d);
     Evaluation {
         derivative: d,
@@ -155,7 +198,7 @@ pub fn evaluate(v: &Vehicle, x: &State, c: &Commands) -> Evaluation {
             fy: patches.fy[i],
             slip_ratio: x[SLIP_RATIO + i],
             tan_slip_angle: x[SLIP_ANGLE + i],
-            steer_angle: steer[i],
+            steer_angle: steer.angle[i],
             drive_torque: torques.drive[i],
             brake_torque: torques.brake[i],
             contact_speed: patches.vcx[i],

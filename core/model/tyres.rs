@@ -1,10 +1,13 @@
 //! Stage 5, tyres: the velocity of each contact patch in wheel axes and the
 //! tyre forces from the relaxed slips, the wheel loads and the camber. The
 //! four wheels are held side by side in arrays (one entry per wheel, FL, FR,
-//! RL, RR) so that the force evaluation can be batched.
+//! RL, RR) and their tyre forces are evaluated together in vector lanes
+//! ([`TyreLanes`]).
 
+use super::prepared::WheelConstants;
 use super::state::{SLIP_ANGLE, SLIP_RATIO, State, VX, VY, YAW_RATE};
-use crate::params::{AxleTyre, Road};
+use super::steering::SteerAngles;
+use crate::tyre::TyreLanes;
 
 /// Contact-patch kinematics and tyre forces of the four wheels.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
@@ -28,45 +31,34 @@ pub struct ContactPatches {
 /// Contact-patch velocity: body velocity plus r × position, rotated into
 /// wheel axes by the steer angle (rigid-body kinematics; Milliken & Milliken,
 /// *Race Car Vehicle Dynamics*, ch. 5). Forces from the Magic Formula with
-/// the relaxed slips κ′, tan α′ of the state ([`crate::tyre`]); the left
-/// wheel's static camber as given, the right wheel's mirrored (tyre axes).
+/// the relaxed slips κ′, tan α′ of the state ([`crate::tyre`]; the four
+/// wheels together, [`TyreLanes::forces`], which equals the scalar
+/// [`TyreModel::combined_tan`](crate::tyre::TyreModel::combined_tan) to
+/// rounding); the left wheel's static camber as given, the right wheel's
+/// mirrored (tyre axes, folded into the lanes).
 #[inline(always)]
 pub fn contact_patches(
-    tyres: &[AxleTyre; 2],
-    road: &Road,
-    positions: &[(f64, f64); 4],
-    steer: &[f64; 4],
+    tyres: &TyreLanes,
+    wheels: &WheelConstants,
+    steer: &SteerAngles,
     fz: &[f64; 4],
     x: &State,
 ) -> ContactPatches {
     let (vx, vy, r) = (x[VX], x[VY], x[YAW_RATE]);
-    let mut p = ContactPatches::default();
+    let mut p = ContactPatches {
+        sin_steer: steer.sin,
+        cos_steer: steer.cos,
+        ..ContactPatches::default()
+    };
     for i in 0..4 {
-        let tyre = &tyres[i / 2];
-        let (px, py) = positions[i];
-        let (sin_d, cos_d) = steer[i].sin_cos();
         // Contact-patch velocity: body velocity plus r × position, rotated into wheel axes.
-        let (bx, by) = (vx - r * py, vy + r * px);
-        p.sin_steer[i] = sin_d;
-        p.cos_steer[i] = cos_d;
+        let (bx, by) = (vx - r * wheels.py[i], vy + r * wheels.px[i]);
+        let (sin_d, cos_d) = (steer.sin[i], steer.cos[i]);
         p.vcx[i] = bx * cos_d + by * sin_d;
         p.vcy[i] = -bx * sin_d + by * cos_d;
-        // Camber in tyre axes: the left wheel's static camber as given, the right mirrored.
-        let gamma = if i % 2 == 0 {
-            tyre.camber
-        } else {
-            -tyre.camber
-        };
-        let force = tyre.model.combined_tan(
-            x[SLIP_RATIO + i],
-            x[SLIP_ANGLE + i],
-            gamma,
-            fz[i],
-            road.friction,
-            tyre.combined_slip,
-        );
-        p.fx[i] = force.fx;
-        p.fy[i] = force.fy;
     }
+    let kappa: [f64; 4] = std::array::from_fn(|i| x[SLIP_RATIO + i]);
+    let tan_alpha: [f64; 4] = std::array::from_fn(|i| x[SLIP_ANGLE + i]);
+    (p.fx, p.fy) = tyres.forces(&kappa, &tan_alpha, fz);
     p
 }

@@ -2,9 +2,9 @@
 //! slip ratio and slip angle.
 
 use super::powertrain::WheelTorques;
+use super::prepared::WheelConstants;
 use super::state::{SLIP_ANGLE, SLIP_RATIO, State, WHEEL_SPEED};
 use super::tyres::ContactPatches;
-use crate::params::AxleTyre;
 
 /// Below this contact-patch speed the slip equations use this speed instead, m/s.
 ///
@@ -26,9 +26,12 @@ pub const STANDSTILL_WHEEL_SPEED: f64 = 1.0;
 /// - σκ·κ̇′ = (ω·R − Vcx) − |Vcx|·κ′ and σα·ṫ′ = −Vcy − |Vcx|·t′ with
 ///   t′ = tan α′ (Pacejka, *Tire and Vehicle Dynamics*, ch. 7, first-order
 ///   transient slip; |Vcx| floored at [`LOW_SPEED`]).
+///
+/// The divisions by Iw, σκ and σα are multiplications by the reciprocals of
+/// [`WheelConstants`].
 #[inline(always)]
 pub fn wheel_equations(
-    tyres: &[AxleTyre; 2],
+    w: &WheelConstants,
     fz: &[f64; 4],
     patches: &ContactPatches,
     torques: &WheelTorques,
@@ -36,18 +39,18 @@ pub fn wheel_equations(
     d: &mut State,
 ) {
     for i in 0..4 {
-        let tyre = &tyres[i / 2];
         let omega = x[WHEEL_SPEED + i];
         let fade = (omega / STANDSTILL_WHEEL_SPEED).clamp(-1.0, 1.0);
-        let rolling = tyre.rolling_resistance * fz[i] * tyre.rolling_radius;
-        let radius = tyre.rolling_radius;
+        let rolling = w.rolling_arm[i] * fz[i];
+        let radius = w.radius[i];
         d[WHEEL_SPEED + i] =
             (torques.drive[i] - (torques.brake[i] + rolling) * fade - patches.fx[i] * radius)
-                / tyre.wheel_inertia;
+                * w.inv_inertia[i];
         let vcx = patches.vcx[i];
         let v_ref = vcx.abs().max(LOW_SPEED);
         d[SLIP_RATIO + i] =
-            (omega * radius - vcx - v_ref * x[SLIP_RATIO + i]) / tyre.relaxation_longitudinal;
-        d[SLIP_ANGLE + i] = (-patches.vcy[i] - v_ref * x[SLIP_ANGLE + i]) / tyre.relaxation_lateral;
+            (omega * radius - vcx - v_ref * x[SLIP_RATIO + i]) * w.inv_relaxation_longitudinal[i];
+        d[SLIP_ANGLE + i] =
+            (-patches.vcy[i] - v_ref * x[SLIP_ANGLE + i]) * w.inv_relaxation_lateral[i];
     }
 }

@@ -9,7 +9,7 @@ use ode_solvers::controller::Controller;
 use ode_solvers::dop_shared::IntegrationError;
 
 use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
-use super::plant::{Captured, Plant};
+use super::plant::{Captured, Model, Plant};
 use super::recorder::{CHECK_POINT, N_NODES, NODES, interpolation_holds};
 use super::{InputSource, MAX_STEPS_PER_SEGMENT, SimError, Simulation, same_time};
 use crate::model::{N_STATES, STATE_NAMES, State};
@@ -70,6 +70,8 @@ pub(super) struct Continuous {
     output: StepOutput,
     /// Channel values at the interpolation nodes of the last step.
     nodes: Box<[Row; N_NODES]>,
+    /// Channel values of the samples of one step (scratch, reused).
+    batch: Vec<Row>,
 }
 
 impl Continuous {
@@ -83,6 +85,7 @@ impl Continuous {
             at_end: None,
             output: StepOutput::Undecided,
             nodes: Box::new([[0.0; N_CHANNELS]; N_NODES]),
+            batch: Vec::new(),
         }
     }
 
@@ -135,8 +138,26 @@ impl Simulation {
         stop: Option<f64>,
         inputs: &dyn InputSource,
     ) -> Result<(), SimError> {
-        let vehicle = std::sync::Arc::clone(&self.vehicle);
-        let plant = Plant::new(&vehicle, inputs);
+        let (vehicle, prepared, steer) = self.model_parts();
+        let model = Model {
+            vehicle: &vehicle,
+            prepared: &prepared,
+            steer: &steer,
+        };
+        let result = self.integrate_with(run, t_end, stop, inputs, model);
+        self.steer = steer.get();
+        result
+    }
+
+    fn integrate_with(
+        &mut self,
+        run: &mut Continuous,
+        t_end: f64,
+        stop: Option<f64>,
+        inputs: &dyn InputSource,
+        model: Model,
+    ) -> Result<(), SimError> {
+        let plant = Plant::new(model, inputs);
         let mut steps = 0_u32;
         loop {
             // Derivative at the current point after a restart (captured for samples).
@@ -146,7 +167,7 @@ impl Simulation {
                 run.at_end = plant.last_at(x, &y);
             }
             // Samples of the current step up to the tick.
-            self.sample_step(run, t_end, inputs);
+            self.sample_step(run, t_end, inputs, model);
             if run.stepper.x() >= t_end || same_time(run.stepper.x(), t_end) {
                 break;
             }
@@ -195,33 +216,47 @@ impl Simulation {
     }
 
     /// Records the samples of the last accepted step that are due by `until`.
-    fn sample_step(&mut self, run: &mut Continuous, until: f64, inputs: &dyn InputSource) {
+    fn sample_step(
+        &mut self,
+        run: &mut Continuous,
+        until: f64,
+        inputs: &dyn InputSource,
+        model: Model,
+    ) {
         let t1 = run.stepper.x();
         let limit = until.min(t1);
         if !self.recorder.due(limit) {
             return;
         }
         if run.output == StepOutput::Undecided {
-            run.output = self.choose_output(run, inputs);
+            run.output = self.choose_output(run, inputs, model);
         }
         if run.output == StepOutput::Interpolated {
             let t0 = run.stepper.x_old();
             self.recorder.push_interpolated(t0, t1, limit, &run.nodes);
             return;
         }
-        while self.recorder.due(limit) {
-            let ts = self.recorder.next_time();
+        // Every sample of the step due by `limit`, evaluated together (the
+        // steering angles of a held command computed once) and recorded
+        // channel-major in one pass.
+        let table = ChannelTable::get();
+        let mut batch = std::mem::take(&mut run.batch);
+        batch.clear();
+        let first = self.recorder.next_index();
+        for k in first..first + self.recorder.count_due(limit) {
+            let ts = self.recorder.time_of(k);
             // At the step's end (within rounding): the solver's own evaluation.
             let at_end = run
                 .at_end
                 .filter(|_| (ts - t1).abs() <= 1e-9 / self.sample_rate);
             let captured = at_end.unwrap_or_else(|| {
                 self.output_evaluations += 1;
-                Captured::evaluate(&self.vehicle, inputs, ts, &run.stepper.dense(ts))
+                Captured::evaluate(model, inputs, ts, &run.stepper.dense(ts))
             });
-            let outputs = self.outputs_of(ts, &captured);
-            self.recorder.push(&outputs);
+            batch.push(table.row(&self.outputs_of(ts, &captured)));
         }
+        self.recorder.push_rows(&batch);
+        run.batch = batch;
     }
 
     /// Direct or interpolated samples for the last step; fills the nodes for
@@ -230,7 +265,12 @@ impl Simulation {
     /// changes inside the step may have a corner no polynomial follows), both
     /// end evaluations, and the interpolant must match an exact evaluation at
     /// the check point.
-    fn choose_output(&mut self, run: &mut Continuous, inputs: &dyn InputSource) -> StepOutput {
+    fn choose_output(
+        &mut self,
+        run: &mut Continuous,
+        inputs: &dyn InputSource,
+        model: Model,
+    ) -> StepOutput {
         let (t0, t1) = (run.stepper.x_old(), run.stepper.x());
         let samples = self.recorder.count_due(t1);
         let (Some(start), Some(end)) = (run.at_start, run.at_end) else {
@@ -257,11 +297,11 @@ impl Simulation {
         run.nodes[0] = table.row(&self.outputs_of(t0, &start));
         run.nodes[N_NODES - 1] = table.row(&self.outputs_of(t1, &end));
         for (node, &t) in run.nodes[1..N_NODES - 1].iter_mut().zip(&times[1..]) {
-            let c = Captured::evaluate(&self.vehicle, inputs, t, &run.stepper.dense(t));
+            let c = Captured::evaluate(model, inputs, t, &run.stepper.dense(t));
             *node = table.row(&self.outputs_of(t, &c));
         }
         let t = t0 + CHECK_POINT * h;
-        let c = Captured::evaluate(&self.vehicle, inputs, t, &run.stepper.dense(t));
+        let c = Captured::evaluate(model, inputs, t, &run.stepper.dense(t));
         let check = table.row(&self.outputs_of(t, &c));
         self.output_evaluations += (N_NODES - 1) as u64;
         if !interpolation_holds(&run.nodes, &check, INTERPOLATION_CHECK) {

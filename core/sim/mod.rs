@@ -67,15 +67,16 @@ pub use channels::{
 pub use continuous::{INTERPOLATION_CHECK, MAX_STEP};
 pub use recorder::{CHECK_POINT, NODES, interpolation_holds, lagrange_weights};
 
+use std::cell::Cell;
 use std::sync::Arc;
 
 use serde::{Deserialize, Serialize};
 
-use crate::model::{Commands, Evaluation, Pose, STATE_NAMES, State, evaluate};
+use crate::model::{Commands, Evaluation, Pose, Prepared, STATE_NAMES, State, SteerAngles};
 use crate::params::Vehicle;
 use crate::results::{Channel, Provenance, RunRecord, RunStatus};
 use continuous::Continuous;
-use plant::Captured;
+use plant::{Captured, Model};
 use recorder::Recorder;
 
 /// Most accepted steps the solver may take within one `advance` call (one
@@ -301,6 +302,10 @@ impl SharedVehicle for Arc<Vehicle> {
 /// ```
 pub struct Simulation {
     vehicle: Arc<Vehicle>,
+    /// The vehicle's constants prepared for the inner loop.
+    prepared: Arc<Prepared>,
+    /// Steering angles of the last steering command evaluated.
+    steer: SteerAngles,
     settings: SolverSettings,
     /// Time the caller advanced to, s, and the state there.
     time: f64,
@@ -348,10 +353,19 @@ impl Simulation {
                 STATE_NAMES[i].0
             )));
         }
+        let vehicle = vehicle.into_shared();
+        let prepared = Prepared::new(&vehicle);
+        if let Err(name) = prepared.check() {
+            return Err(SimError::Settings(format!(
+                "the vehicle's {name} gives a non-finite constant"
+            )));
+        }
         let continuous = (settings.kind == SolverKind::Dopri5)
             .then(|| Box::new(Continuous::new(0.0, initial, settings.rtol, settings.atol)));
         Ok(Self {
-            vehicle: vehicle.into_shared(),
+            steer: SteerAngles::new(&vehicle, 0.0),
+            prepared: Arc::new(prepared),
+            vehicle,
             settings,
             time: 0.0,
             state: initial,
@@ -474,8 +488,30 @@ impl Simulation {
             {
                 c.evaluation
             }
-            _ => evaluate(&self.vehicle, &self.state, commands),
+            _ => {
+                let steer = Cell::new(self.steer);
+                self.model(&steer).evaluate(&self.state, commands)
+            }
         }
+    }
+
+    /// The model of this simulation with the steering cache `steer`.
+    fn model<'a>(&'a self, steer: &'a Cell<SteerAngles>) -> Model<'a> {
+        Model {
+            vehicle: &self.vehicle,
+            prepared: &self.prepared,
+            steer,
+        }
+    }
+
+    /// Shared handles of the vehicle and its constants, and a steering cache
+    /// seeded from the last one, for a model that does not borrow `self`.
+    fn model_parts(&self) -> (Arc<Vehicle>, Arc<Prepared>, Cell<SteerAngles>) {
+        (
+            Arc::clone(&self.vehicle),
+            Arc::clone(&self.prepared),
+            Cell::new(self.steer),
+        )
     }
 
     /// Every output quantity at the current state with `commands`: what a
@@ -504,7 +540,8 @@ impl Simulation {
 
     fn solver_error(&self, message: String, time: f64, inputs: &dyn InputSource) -> SimError {
         let c = inputs.commands(time);
-        let d = evaluate(&self.vehicle, &self.state, &c).derivative;
+        let steer = Cell::new(self.steer);
+        let d = self.model(&steer).evaluate(&self.state, &c).derivative;
         let scale =
             |i: usize| d[i].abs() / (self.settings.atol + self.settings.rtol * self.state[i].abs());
         let worst = (0..crate::model::N_STATES)

@@ -7,8 +7,32 @@ use std::cell::{Cell, RefCell};
 use ode_solvers::dop_shared::System;
 
 use super::InputSource;
-use crate::model::{Commands, Evaluation, N_STATES, State, evaluate};
+use crate::model::evaluate_prepared;
+use crate::model::{Commands, Evaluation, N_STATES, Prepared, State, SteerAngles};
 use crate::params::Vehicle;
+
+/// The model of one simulation: the vehicle, its prepared constants and the
+/// steering angles of the last steering command seen (computed again only
+/// when the command changes: once per held command).
+#[derive(Clone, Copy)]
+pub(super) struct Model<'a> {
+    pub vehicle: &'a Vehicle,
+    pub prepared: &'a Prepared,
+    pub steer: &'a Cell<SteerAngles>,
+}
+
+impl Model<'_> {
+    /// The model evaluated at `state` with `commands`.
+    #[inline]
+    pub fn evaluate(&self, state: &State, commands: &Commands) -> Evaluation {
+        let mut steer = self.steer.get();
+        if !steer.is_for(commands.steer_wheel_angle) {
+            steer = SteerAngles::new(self.vehicle, commands.steer_wheel_angle);
+            self.steer.set(steer);
+        }
+        evaluate_prepared(self.vehicle, self.prepared, &steer, state, commands)
+    }
+}
 
 /// One evaluation of the model with what it was evaluated at.
 #[derive(Debug, Clone, Copy)]
@@ -25,13 +49,14 @@ pub(super) struct Captured {
 
 impl Captured {
     /// Evaluates the model at (`t`, `state`) with the inputs' commands.
-    pub fn evaluate(vehicle: &Vehicle, inputs: &dyn InputSource, t: f64, state: &State) -> Self {
+    #[inline]
+    pub fn evaluate(model: Model, inputs: &dyn InputSource, t: f64, state: &State) -> Self {
         let commands = inputs.commands(t);
         Self {
             t,
             state: *state,
             commands,
-            evaluation: evaluate(vehicle, state, &commands),
+            evaluation: model.evaluate(state, &commands),
         }
     }
 
@@ -43,7 +68,7 @@ impl Captured {
 
 /// The ODE right-hand side: derivative of the state under the inputs.
 pub(super) struct Plant<'a> {
-    vehicle: &'a Vehicle,
+    model: Model<'a>,
     inputs: &'a dyn InputSource,
     /// First non-finite value seen: (time, state index).
     bad: Cell<Option<(f64, usize)>>,
@@ -52,9 +77,9 @@ pub(super) struct Plant<'a> {
 }
 
 impl<'a> Plant<'a> {
-    pub fn new(vehicle: &'a Vehicle, inputs: &'a dyn InputSource) -> Self {
+    pub fn new(model: Model<'a>, inputs: &'a dyn InputSource) -> Self {
         Self {
-            vehicle,
+            model,
             inputs,
             bad: Cell::new(None),
             last: RefCell::new(None),
@@ -74,7 +99,7 @@ impl<'a> Plant<'a> {
 
 impl System<f64, State> for Plant<'_> {
     fn system(&self, t: f64, x: &State, dx: &mut State) {
-        let captured = Captured::evaluate(self.vehicle, self.inputs, t, x);
+        let captured = Captured::evaluate(self.model, self.inputs, t, x);
         *dx = captured.evaluation.derivative;
         // A NaN or infinity anywhere makes the sum non-finite (one pass, no
         // branch per element); only then is the offending state looked for.

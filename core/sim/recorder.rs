@@ -117,6 +117,11 @@ impl Recorder {
         k as f64 / self.rate
     }
 
+    /// Index of the next sample to record.
+    pub fn next_index(&self) -> u64 {
+        self.next
+    }
+
     /// Time of the next sample to record, s.
     pub fn next_time(&self) -> f64 {
         self.time_of(self.next)
@@ -185,21 +190,34 @@ impl Recorder {
         if n == 0 {
             return;
         }
-        // Channel-major: each channel's samples of the step in one pass; a
-        // channel constant over the step (a held command) is copied.
+        // Channel-major: each channel's samples of the step in one pass over
+        // slices (no per-sample capacity check); a channel constant over the
+        // step (a held command) is copied.
         let [w0, w1, w2, w3, w4] = &self.weights;
+        let (w0, w1, w2, w3, w4) = (&w0[..n], &w1[..n], &w2[..n], &w3[..n], &w4[..n]);
         for (c, d) in self.data.iter_mut().enumerate() {
             let v: [f64; N_NODES] = std::array::from_fn(|j| nodes[j][c]);
+            let start = d.len();
             if v.iter().all(|x| x.to_bits() == v[0].to_bits()) {
-                d.extend(std::iter::repeat_n(v[0], n));
+                d.resize(start + n, v[0]);
                 continue;
             }
-            let weights = w0.iter().zip(w1).zip(w2).zip(w3).zip(w4);
-            d.extend(
-                weights.map(|((((a, b), c), e), f)| {
-                    a * v[0] + b * v[1] + c * v[2] + e * v[3] + f * v[4]
-                }),
-            );
+            d.resize(start + n, 0.0);
+            for (s, out) in d[start..].iter_mut().enumerate() {
+                *out = w0[s] * v[0] + w1[s] * v[1] + w2[s] * v[2] + w3[s] * v[3] + w4[s] * v[4];
+            }
+        }
+    }
+
+    /// Records the next `rows.len()` samples from their channel values, all
+    /// of one step together: channel-major, one pass per channel.
+    pub fn push_rows(&mut self, rows: &[Row]) {
+        for _ in rows {
+            self.times.push(self.next_time());
+            self.next += 1;
+        }
+        for (c, d) in self.data.iter_mut().enumerate() {
+            d.extend(rows.iter().map(|row| row[c]));
         }
     }
 

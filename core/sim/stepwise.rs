@@ -6,7 +6,7 @@
 use ode_solvers::dop_shared::{IntegrationError, OutputType, Stats};
 use ode_solvers::{Dop853, Rk4};
 
-use super::plant::{Captured, Plant};
+use super::plant::{Captured, Model, Plant};
 use super::{InputSource, MAX_STEPS_PER_SEGMENT, SimError, Simulation, SolverKind, same_time};
 use crate::model::{STATE_NAMES, State};
 
@@ -32,9 +32,26 @@ impl Simulation {
         t_end: f64,
         inputs: &dyn InputSource,
     ) -> Result<(), SimError> {
+        let (vehicle, prepared, steer) = self.model_parts();
+        let model = Model {
+            vehicle: &vehicle,
+            prepared: &prepared,
+            steer: &steer,
+        };
+        let result = self.stepwise_with(t_end, inputs, model);
+        self.steer = steer.get();
+        result
+    }
+
+    fn stepwise_with(
+        &mut self,
+        t_end: f64,
+        inputs: &dyn InputSource,
+        model: Model,
+    ) -> Result<(), SimError> {
         self.recorder.reserve_until(t_end);
         if self.recorder.due(self.time) {
-            let c = Captured::evaluate(&self.vehicle, inputs, self.time, &self.state);
+            let c = Captured::evaluate(model, inputs, self.time, &self.state);
             self.output_evaluations += 1;
             let outputs = self.outputs_of(self.time, &c);
             self.recorder.push(&outputs);
@@ -53,8 +70,7 @@ impl Simulation {
                 } else {
                     t_end
                 };
-            let vehicle = std::sync::Arc::clone(&self.vehicle);
-            let plant = Plant::new(&vehicle, inputs);
+            let plant = Plant::new(model, inputs);
             // Integrate to the stop, then sample there.
             let (outcome, last) = self.integrate_span(&plant, stop);
             if let Ok(s) = &outcome {
@@ -80,7 +96,7 @@ impl Simulation {
             if self.recorder.due(stop) {
                 let c = exact.unwrap_or_else(|| {
                     self.output_evaluations += 1;
-                    Captured::evaluate(&self.vehicle, inputs, stop, &x)
+                    Captured::evaluate(model, inputs, stop, &x)
                 });
                 let outputs = self.outputs_of(self.recorder.next_time(), &c);
                 self.recorder.push(&outputs);

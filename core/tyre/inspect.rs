@@ -1,7 +1,7 @@
 //! Tyre inspection: the curves and key figures of one tyre, computed with the
-//! very force function the vehicle model calls
-//! ([`TyreModel::combined_tan`], with the same camber, road friction and
-//! combined-slip method).
+//! scalar reference force function ([`TyreModel::combined_tan`], with the same
+//! camber, road friction and combined-slip method as the vehicle model, whose
+//! vector lanes equal it to rounding: [`super::TyreLanes`]).
 //!
 //! - Fx against slip ratio at zero slip angle, and Fy against slip angle at
 //!   zero slip ratio, at several loads (pure slip; exactly the pure-slip

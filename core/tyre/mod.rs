@@ -12,6 +12,11 @@
 //! imports nothing from the rest of the crate: the parameter files build on
 //! it, not the other way round.
 //!
+//! [`TyreLanes`] evaluates four tyres together in vector lanes for the
+//! vehicle model's inner loop, with branch-free approximations of atan, sin,
+//! cos and exp (`approx.rs`); the scalar [`TyreModel`] is the reference it is
+//! tested against.
+//!
 //! [`inspect`] draws curves and key figures of one tyre from the same force
 //! function (tyre inspection).
 //!
@@ -19,9 +24,12 @@
 //! 2006), ch. 4; the MF 5.2 details are written from memory (see each doc
 //! comment).
 
+mod approx;
 mod coefficients;
 pub mod inspect;
+pub mod lanes;
 mod model;
 
 pub use coefficients::{CoefficientIssue, MagicFormulaCoefficients};
+pub use lanes::TyreLanes;
 pub use model::{CombinedSlip, TyreForce, TyreModel};

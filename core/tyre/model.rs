@@ -10,15 +10,15 @@ use super::MagicFormulaCoefficients;
 /// Largest |B·x| fed to the curve (-). Beyond it atan(B·x) equals π/2 to
 /// 1e-12, so the cap changes nothing physical; it keeps E·(B·x − atan B·x)
 /// finite for any finite slip.
-const ARG_MAX: f64 = 1e12;
+pub(super) const ARG_MAX: f64 = 1e12;
 /// Largest |normalised slip| in the friction-ellipse method (-); far into
 /// full sliding. Keeps the hypot and ratios finite when μ·Fz is tiny.
-const NORM_SLIP_MAX: f64 = 1e150;
+pub(super) const NORM_SLIP_MAX: f64 = 1e150;
 /// Largest |slip ratio| considered (-). The curves are flat long before.
-const KAPPA_MAX: f64 = 1e6;
+pub(super) const KAPPA_MAX: f64 = 1e6;
 /// Loads above this multiple of the nominal load are evaluated at it; this
 /// only keeps the load polynomials finite, no tyre is run there.
-const LOAD_MAX_FACTOR: f64 = 100.0;
+pub(super) const LOAD_MAX_FACTOR: f64 = 100.0;
 
 /// How longitudinal and lateral slip are combined.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
@@ -133,6 +133,11 @@ impl TyreModel {
             mf: *mf,
             nominal_load: mf.lambda_fz0 * mf.nominal_load_n,
         }
+    }
+
+    /// The coefficients (checked or not, as given to [`TyreModel::new`]).
+    pub fn coefficients(&self) -> &MagicFormulaCoefficients {
+        &self.mf
     }
 
     /// The scaled nominal load Fz0' = λFz0·Fz0 the load dependence refers to, N.
