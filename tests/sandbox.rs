@@ -212,13 +212,15 @@ fn fixed_step_is_bounded() {
 #[test]
 fn wall_clock_budget_stops_the_run_and_keeps_the_data() {
     let dir = folder();
-    let body = "start_speed(20.0);\nhold_speed(20.0);\nrun_for(600.0);\n";
+    // A fixed 10 µs RK4 step over 600 s is 6e7 steps: far beyond 0.3 s on
+    // any machine, so the budget (not the run's end) must stop it.
+    let body = "solver(\"rk4\");\nfixed_step(1e-5);\nstart_speed(20.0);\nhold_speed(20.0);\nrun_for(600.0);\n";
     let out = run(&dir, "long.rhai", body, &["--max-wall", "0.3"]);
     out.expect_code(1);
     let r = read_hdf5(&dir.join("r.h5")).unwrap();
     assert!(r.samples() > 1 && r.duration_s() < 600.0);
     assert!(
-        failure(&r).contains("long.rhai:4:1: wall-clock budget of 0.3 s exceeded"),
+        failure(&r).contains("long.rhai:6:1: wall-clock budget of 0.3 s exceeded"),
         "{}",
         failure(&r)
     );

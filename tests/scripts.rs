@@ -624,37 +624,6 @@ fn failed_criterion_exits_1() {
     assert!(!r.criteria[0].passed);
 }
 
-/// Controller overhead: the same run with and without a trivial 100 Hz
-/// controller. Timing-dependent, so not run by default
-/// (`cargo test --test scripts -- --ignored`).
-#[test]
-#[ignore]
-fn trivial_controller_costs_less_than_a_fifth() {
-    let base = r#"
-        vehicle("vehicles/hybrid_crossover.toml");
-        start_speed(kph(80));
-        steer(sine(deg(30), 0.5, 1.0, 10.0));
-        CONTROLLER
-        run_for(25.0);
-    "#;
-    let _warm_up = run_text(&base.replace("CONTROLLER", ""));
-    let time = |text: &str| {
-        let mut best = f64::INFINITY;
-        for _ in 0..3 {
-            let start = std::time::Instant::now();
-            let _ = run_text(text);
-            best = best.min(start.elapsed().as_secs_f64());
-        }
-        best
-    };
-    let plain = time(&base.replace("CONTROLLER", ""));
-    // A controller that reads the state and commands nothing: same physics.
-    let with = time(&base.replace("CONTROLLER", "controller(|s| { let v = s.speed; () });"));
-    let ratio = with / plain;
-    println!("controller overhead: {plain:.4} s without, {with:.4} s with, ratio {ratio:.3}");
-    assert!(ratio < 1.2, "ratio {ratio}");
-}
-
 /// Manoeuvre parameters: `--set manoeuvre.<name>=value` reaches `param(...)`
 /// and is recorded in provenance; a name the script never reads is bad input.
 #[test]
