@@ -29,6 +29,7 @@ pub mod plot;
 pub mod quasi_static;
 pub mod results;
 pub mod script;
+pub mod sensitivity;
 pub mod sim;
 pub mod stability;
 pub mod sweep;

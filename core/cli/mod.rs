@@ -9,6 +9,7 @@ mod gg_envelope;
 mod merge;
 mod plot;
 mod run;
+mod sensitivity;
 mod show;
 mod stability;
 mod sweep;
@@ -86,6 +87,7 @@ fn kind_of(cause: &(dyn std::error::Error + 'static)) -> Option<ErrorKind> {
         as_kind::<yawdyn::manoeuvre::driver::DriverError>,
         as_kind::<yawdyn::script::ScriptError>,
         as_kind::<yawdyn::quasi_static::QuasiStaticError>,
+        as_kind::<yawdyn::sensitivity::SensitivityError>,
         as_kind::<yawdyn::tyre::inspect::InspectError>,
         as_kind::<yawdyn::assets::AssetError>,
         |e| e.downcast_ref::<std::io::Error>().map(io_kind),
@@ -178,6 +180,12 @@ enum Command {
     GgEnvelope(gg_envelope::Args),
     /// Inspect the tyres of a vehicle file: curves, peak friction, stiffness against load.
     Tyre(tyre::Args),
+    /// Rank vehicle parameters by the elasticity of a metric: each parameter
+    /// stepped up and down by a relative step, the cases run in parallel.
+    ///
+    /// Exit codes: 0 success; 1 the base case or a perturbation failed (the
+    /// ranking is still printed and written); 2 bad input.
+    Sensitivity(sensitivity::Args),
 }
 
 /// Parses the command line and runs the subcommand.
@@ -220,6 +228,7 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::YawMoment(args) => yaw_moment::run(args),
         Command::GgEnvelope(args) => gg_envelope::run(args),
         Command::Tyre(args) => tyre::run(args),
+        Command::Sensitivity(args) => sensitivity::run(args),
     }
 }
 

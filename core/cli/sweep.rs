@@ -97,17 +97,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     let runner = script_case_runner(&config.script, config.vehicle.as_deref(), config.limits);
 
     let range = config.shard.range(config.spec.grid.len());
-    let bar = if config.quiet || !std::io::stderr().is_terminal() {
-        ProgressBar::hidden()
-    } else {
-        let bar = ProgressBar::new(range.len() as u64);
-        if let Ok(style) = ProgressStyle::with_template(
-            "{elapsed_precise} [{bar:40}] {pos}/{len} cases, eta {eta}",
-        ) {
-            bar.set_style(style.progress_chars("=> "));
-        }
-        bar
-    };
+    let bar = progress_bar(range.len(), config.quiet);
     let tick = || bar.inc(1);
     let options = SweepOptions {
         jobs: config.jobs,
@@ -122,6 +112,21 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     } else {
         Outcome::Failed
     })
+}
+
+/// The progress bar of commands that run cases on the sweep engine: hidden
+/// with `quiet` or when standard error is not a terminal.
+pub(super) fn progress_bar(cases: usize, quiet: bool) -> ProgressBar {
+    if quiet || !std::io::stderr().is_terminal() {
+        return ProgressBar::hidden();
+    }
+    let bar = ProgressBar::new(cases as u64);
+    if let Ok(style) =
+        ProgressStyle::with_template("{elapsed_precise} [{bar:40}] {pos}/{len} cases, eta {eta}")
+    {
+        bar.set_style(style.progress_chars("=> "));
+    }
+    bar
 }
 
 /// Validates the raw options into a [`Config`] (bad input names the option).
@@ -203,7 +208,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
 
 /// The case runner of the command line: the manoeuvre script runner
 /// ([`run_script`]) with the case's overrides.
-fn script_case_runner<'a>(
+pub(super) fn script_case_runner<'a>(
     script: &'a Path,
     vehicle: Option<&'a Path>,
     limits: Limits,

@@ -4,7 +4,8 @@
 //! cross-plots ([`lines`], [`lines_with_markers`]), stacked channels sharing a
 //! time axis ([`stacked`]), the steady-state handling diagram
 //! ([`handling_diagram`]), the friction-usage ("g-g") plot ([`gg`]) and
-//! stability maps ([`heat_map`]). It takes plain data in (numbers, labels)
+//! stability maps ([`heat_map`]) and sensitivity rankings
+//! ([`sensitivity_bars`]). It takes plain data in (numbers, labels)
 //! and writes one SVG file per call; it knows nothing of the vehicle model,
 //! the results file or the analysis that produced the numbers, except in
 //! [`figures`], which turns a results record into plot data.
@@ -49,6 +50,7 @@ pub mod figures;
 mod heat_map;
 mod lines;
 mod quasi_static;
+mod sensitivity;
 mod style;
 mod vehicle;
 
@@ -57,6 +59,7 @@ use std::path::{Path, PathBuf};
 pub use heat_map::{HeatMap, heat_map};
 pub use lines::{lines, lines_with_markers, stacked};
 pub use quasi_static::{YawMomentFigure, gg_envelope, yaw_moment_diagram};
+pub use sensitivity::{SensitivityBar, SensitivityPanel, sensitivity_bars};
 pub use vehicle::{gg, handling_diagram};
 
 /// One named curve: paired x and y samples in the units of the plot's axes.

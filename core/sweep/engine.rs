@@ -28,6 +28,56 @@ use super::{CaseStatus, Shard, Summary, SweepCase, SweepError, SweepSpec};
 /// several threads at once.
 pub type CaseRunner<'a> = dyn Fn(&[Override]) -> Result<RunRecord, String> + Sync + 'a;
 
+/// A numbered list of cases the engine can run: what each case overrides
+/// and which values it stores. A sweep's grid is one ([`SweepSpec`]); the
+/// perturbations of a sensitivity ranking are another
+/// ([`crate::sensitivity::Plan`]).
+pub trait CaseList: Sync {
+    /// Number of cases (indices `0..len`).
+    fn len(&self) -> usize;
+
+    /// True when there is no case.
+    fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// Every override case `index` runs with, in the order they apply (a
+    /// later override of the same key wins).
+    fn overrides(&self, index: usize) -> Vec<Override>;
+
+    /// The values that define case `index` (stored in
+    /// [`SweepCase::parameters`]).
+    fn values(&self, index: usize) -> Vec<f64>;
+
+    /// Channels each case keeps (`None`: all the runner returns; an empty
+    /// list keeps none, so finished cases hold only their summary).
+    fn channels(&self) -> Option<&[String]>;
+}
+
+impl CaseList for SweepSpec {
+    /// The grid's size.
+    fn len(&self) -> usize {
+        self.grid.len()
+    }
+
+    /// The base overrides (`--set`, in order), then one per varied key.
+    fn overrides(&self, index: usize) -> Vec<Override> {
+        let mut overrides = self.base_overrides.clone();
+        overrides.extend(self.grid.overrides(index));
+        overrides
+    }
+
+    /// The varied parameters' values, `--vary` order.
+    fn values(&self, index: usize) -> Vec<f64> {
+        self.grid.values(index)
+    }
+
+    /// The `--channels` selection.
+    fn channels(&self) -> Option<&[String]> {
+        self.channels.as_deref()
+    }
+}
+
 /// How to run a sweep.
 pub struct SweepOptions<'a> {
     /// Worker threads, ≥ 1 (exactly this many, or the number of cases when
@@ -112,33 +162,9 @@ pub fn run_sweep(
         shard: options.shard,
     };
     let mut writer = SweepWriter::create(out, spec, &stamp)?;
-    // Workers run the cases; this thread writes them in index order.
     let range = options.shard.range(spec.grid.len());
-    let queue = CaseQueue::new(range.clone(), IN_FLIGHT_PER_JOB * options.jobs);
-    let threads = options.jobs.min(range.len());
     let cpu_at_start = thread_cpu_time_s();
-    let workers = Workers {
-        spec,
-        runner,
-        options,
-        queue: &queue,
-    };
-    std::thread::scope(|scope| -> Result<(), SweepError> {
-        let (tx, rx) = mpsc::channel::<SweepCase>();
-        let handles = workers.spawn(scope, threads, &tx)?;
-        drop(tx);
-        let written = write_in_order(&rx, &mut writer, &queue, range.start);
-        queue.stop();
-        drop(rx);
-        for handle in handles {
-            // A worker's panic is reported as the lost case below.
-            let _ = handle.join();
-        }
-        match written? {
-            next if next < range.end => Err(SweepError::Worker { index: next }),
-            _ => Ok(()),
-        }
-    })?;
+    run_cases(spec, range, options, runner, |case| writer.write_case(case))?;
     // The last block, then the file under its final name.
     let summary = writer.finish()?;
     Ok(SweepReport {
@@ -149,9 +175,59 @@ pub fn run_sweep(
     })
 }
 
+/// Runs cases `range` of `cases` with `runner` on `options.jobs` threads
+/// (`options.shard` is not read: the caller chooses the range) and hands
+/// each finished case to `sink` on the calling thread, in increasing index
+/// order, whatever the thread timing. This is the engine under
+/// [`run_sweep`]; other commands that run many cases (the sensitivity
+/// ranking) pass their own case list and sink.
+///
+/// Case failures are recorded in the cases, not returned. `Err` comes from
+/// `sink` (the first error stops handing out cases), from threads that
+/// cannot start, or from a case lost by a worker.
+pub fn run_cases<F>(
+    cases: &dyn CaseList,
+    range: std::ops::Range<usize>,
+    options: &SweepOptions<'_>,
+    runner: &CaseRunner<'_>,
+    mut sink: F,
+) -> Result<(), SweepError>
+where
+    F: FnMut(SweepCase) -> Result<(), SweepError>,
+{
+    if options.jobs == 0 {
+        return Err(SweepError::Option("--jobs must be at least 1".to_string()));
+    }
+    // Workers run the cases; this thread hands them to the sink in index order.
+    let queue = CaseQueue::new(range.clone(), IN_FLIGHT_PER_JOB * options.jobs);
+    let threads = options.jobs.min(range.len());
+    let workers = Workers {
+        cases,
+        runner,
+        options,
+        queue: &queue,
+    };
+    std::thread::scope(|scope| -> Result<(), SweepError> {
+        let (tx, rx) = mpsc::channel::<SweepCase>();
+        let handles = workers.spawn(scope, threads, &tx)?;
+        drop(tx);
+        let written = deliver_in_order(&rx, &mut sink, &queue, range.start);
+        queue.stop();
+        drop(rx);
+        for handle in handles {
+            // A worker's panic is reported as the lost case below.
+            let _ = handle.join();
+        }
+        match written? {
+            next if next < range.end => Err(SweepError::Worker { index: next }),
+            _ => Ok(()),
+        }
+    })
+}
+
 /// What every worker thread shares.
 struct Workers<'a> {
-    spec: &'a SweepSpec,
+    cases: &'a dyn CaseList,
     runner: &'a CaseRunner<'a>,
     options: &'a SweepOptions<'a>,
     queue: &'a CaseQueue,
@@ -195,11 +271,13 @@ impl<'a> Workers<'a> {
     fn work(&self, tx: &mpsc::Sender<SweepCase>) {
         let _stop_on_panic = StopOnPanic(self.queue);
         while let Some(index) = self.queue.take() {
-            let case = catch_unwind(AssertUnwindSafe(|| run_case(self.spec, self.runner, index)))
-                .unwrap_or_else(|panic| {
-                    let message = format!("the case panicked: {}", panic_text(&panic));
-                    error_case(self.spec, index, message)
-                });
+            let case = catch_unwind(AssertUnwindSafe(|| {
+                run_case(self.cases, self.runner, index)
+            }))
+            .unwrap_or_else(|panic| {
+                let message = format!("the case panicked: {}", panic_text(&panic));
+                error_case(self.cases, index, message)
+            });
             if let Some(progress) = self.options.progress {
                 progress();
             }
@@ -210,21 +288,24 @@ impl<'a> Workers<'a> {
     }
 }
 
-/// Receives finished cases and writes them in index order from `first`;
-/// returns the index after the last one written (the loop ends when every
-/// worker has stopped).
-fn write_in_order(
+/// Receives finished cases and hands them to `sink` in index order from
+/// `first`; returns the index after the last one delivered (the loop ends
+/// when every worker has stopped).
+fn deliver_in_order<F>(
     rx: &mpsc::Receiver<SweepCase>,
-    writer: &mut SweepWriter,
+    sink: &mut F,
     queue: &CaseQueue,
     first: usize,
-) -> Result<usize, SweepError> {
+) -> Result<usize, SweepError>
+where
+    F: FnMut(SweepCase) -> Result<(), SweepError>,
+{
     let mut waiting = BTreeMap::new();
     let mut next = first;
     for case in rx {
         waiting.insert(case.index, case);
         while let Some(case) = waiting.remove(&next) {
-            writer.write_case(case)?;
+            sink(case)?;
             next += 1;
             queue.written(next);
         }
@@ -330,12 +411,11 @@ fn panic_text(panic: &Box<dyn std::any::Any + Send>) -> String {
 }
 
 /// Case `index` recorded as `error` with `message`.
-fn error_case(spec: &SweepSpec, index: usize, message: String) -> SweepCase {
-    let mut overrides = spec.base_overrides.clone();
-    overrides.extend(spec.grid.overrides(index));
+fn error_case(cases: &dyn CaseList, index: usize, message: String) -> SweepCase {
+    let overrides = cases.overrides(index);
     SweepCase {
         index,
-        parameters: spec.grid.values(index),
+        parameters: cases.values(index),
         overrides: overrides.iter().map(Override::to_text).collect(),
         status: CaseStatus::Error,
         message,
@@ -348,10 +428,9 @@ fn error_case(spec: &SweepSpec, index: usize, message: String) -> SweepCase {
 }
 
 /// Runs one case, turning every way it can go wrong into a recorded status.
-fn run_case(spec: &SweepSpec, runner: &CaseRunner<'_>, index: usize) -> SweepCase {
-    let mut overrides = spec.base_overrides.clone();
-    overrides.extend(spec.grid.overrides(index));
-    let mut case = error_case(spec, index, String::new());
+fn run_case(cases: &dyn CaseList, runner: &CaseRunner<'_>, index: usize) -> SweepCase {
+    let overrides = cases.overrides(index);
+    let mut case = error_case(cases, index, String::new());
     let record = match catch_unwind(AssertUnwindSafe(|| runner(&overrides))) {
         Ok(Ok(record)) => record,
         Ok(Err(message)) => {
@@ -376,7 +455,7 @@ fn run_case(spec: &SweepSpec, runner: &CaseRunner<'_>, index: usize) -> SweepCas
         criteria,
         ..
     } = record;
-    if let Some(wanted) = &spec.channels {
+    if let Some(wanted) = cases.channels() {
         let mut kept = Vec::with_capacity(wanted.len());
         for name in wanted {
             match channels.iter().position(|c| &c.name == name) {
@@ -537,7 +616,7 @@ fn storable_criteria(record: &RunRecord) -> Result<(), String> {
 }
 
 /// yawdyn version with git revision, as stored in files.
-fn yawdyn_version() -> String {
+pub(crate) fn yawdyn_version() -> String {
     format!(
         "{} ({})",
         env!("CARGO_PKG_VERSION"),

@@ -110,7 +110,10 @@ use crate::params::Override;
 use crate::results::Access;
 
 pub use case::{Summary, SummaryCriterion, SummaryMetric, SweepCase};
-pub use engine::{CaseRunner, SweepOptions, SweepReport, merge_sweeps, run_sweep, utc_now};
+pub(crate) use engine::yawdyn_version;
+pub use engine::{
+    CaseList, CaseRunner, SweepOptions, SweepReport, merge_sweeps, run_cases, run_sweep, utc_now,
+};
 pub use grid::{Grid, Shard, VaryAxis};
 pub use reader::{SweepFile, read_sweep};
 
