@@ -148,7 +148,7 @@ fn draw_panel(
     let bar = |k: usize, value: f64, upper: bool| {
         let y = y_of(k);
         let (a, b) = if upper { (y, y + 0.36) } else { (y - 0.36, y) };
-        (value.is_finite()).then(|| (0.0, a, value, b))
+        value.is_finite().then_some((0.0, a, value, b))
     };
     let up_bars = panel
         .bars
