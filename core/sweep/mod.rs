@@ -3,7 +3,9 @@
 //! cluster, and merging them back.
 //!
 //! This module owns the case list ([`Grid`], [`Shard`]), the parallel engine
-//! ([`run_sweep`]), the sweep-file layout ([`read_sweep`], [`merge_sweeps`]).
+//! ([`run_sweep`]; under it [`run_cases`], which runs any [`CaseList`] and
+//! hands the cases to a sink in index order, as the sensitivity ranking
+//! does), the sweep-file layout ([`read_sweep`], [`merge_sweeps`]).
 //! It does not know how a case is simulated: the caller passes a *case
 //! runner*, a function from the case's overrides to a
 //! [`RunRecord`](crate::results::RunRecord) (the command line passes the
