@@ -264,8 +264,12 @@ fn failed_perturbation_is_reported() {
         "--json",
         "--out",
         "failed.h5",
+        "--plot",
+        "figures/failed.svg",
     ]);
     out.expect_code(1);
+    // Written although a case failed, into a directory made for it.
+    assert!(dir.join("figures/failed.svg").is_file());
     let doc = json(&out.stdout);
     let failures = doc["rankings"][0]["failures"].as_array().unwrap();
     assert_eq!(failures.len(), 1, "{failures:?}");

@@ -495,6 +495,11 @@ fn draw(path: &Path, config: &Config, plan: &Plan, rankings: &[Ranking]) -> anyh
         "Sensitivity ranking, relative step {} %",
         fmt_num(plan.step * 100.0, 3)
     );
+    // The plot writer does not create directories; the HDF5 writer does.
+    if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
+        std::fs::create_dir_all(dir)
+            .with_context(|| format!("cannot create the directory {}", dir.display()))?;
+    }
     sensitivity_bars(path, &title, &panels)?;
     Ok(())
 }
