@@ -110,9 +110,9 @@ fn handling_diagram_for_circle_script_with_understeer_gradient() {
         &dir.path().join("ramp.svg"),
         &[
             "lateral acceleration [g]",
-            "steer angle [deg]",
+            "road-wheel angle - Ackermann angle [deg]",
             "understeer gradient",
-            "minus Ackermann angle",
+            "\nsimulation\n",
         ],
     );
     // Compare with the linear bicycle-model gradient K = m_f/C_f − m_r/C_r
@@ -461,7 +461,7 @@ fn overlay_of_two_sweep_cases_with_json_summary() {
         .collect();
     assert_eq!(
         series,
-        ["case 0: chassis.mass=1700", "case 2: chassis.mass=1900"]
+        ["case 0: chassis.mass=1700.0", "case 2: chassis.mass=1900.0"]
     );
     let written = summary["files_written"][0].as_str().unwrap();
     assert!(written.ends_with("sw_overlay.svg"), "{written}");
