@@ -285,6 +285,8 @@ fn overlay_plot(args: &Args, out: &Path) -> anyhow::Result<Drawn> {
     let mut sources = Vec::new();
     let mut cases = Vec::new();
     let mut sweeps_seen = 0;
+    // (source, case index, varied overrides) of every sweep case.
+    let mut case_overrides: Vec<(usize, usize, Vec<String>)> = Vec::new();
     for file in &args.files {
         let format = file_format(file)?;
         match format.as_str() {
@@ -317,20 +319,20 @@ fn overlay_plot(args: &Args, out: &Path) -> anyhow::Result<Drawn> {
                             case.message
                         )));
                     }
-                    let varied = sweep
+                    let varied: Vec<String> = sweep
                         .spec
                         .grid
                         .overrides(index)
                         .iter()
                         .map(|o| o.to_text())
-                        .collect::<Vec<_>>()
-                        .join(", ");
+                        .collect();
                     let label = if several_files {
-                        format!("{}: case {index}, {varied}", file_label(file))
+                        format!("{}: case {index}, {}", file_label(file), varied.join(", "))
                     } else {
-                        format!("case {index}: {varied}")
+                        format!("case {index}: {}", varied.join(", "))
                     };
                     cases.push(index);
+                    case_overrides.push((sources.len(), index, varied));
                     sources.push(Source {
                         label,
                         record: RunRecord {
@@ -373,7 +375,33 @@ fn overlay_plot(args: &Args, out: &Path) -> anyhow::Result<Drawn> {
             "--case picks cases of a sweep file; no sweep file was given",
         ));
     }
-    let title = overlay_title(&sources);
+    // Cases of one sweep: the overrides they share go to the title, the
+    // legend keeps what tells them apart.
+    let mut shared: Vec<String> = Vec::new();
+    if !several_files && case_overrides.len() > 1 {
+        shared = case_overrides[0]
+            .2
+            .iter()
+            .filter(|o| case_overrides.iter().all(|(_, _, v)| v.contains(o)))
+            .cloned()
+            .collect();
+        for (source, index, varied) in &case_overrides {
+            let own: Vec<&str> = varied
+                .iter()
+                .filter(|o| !shared.contains(o))
+                .map(String::as_str)
+                .collect();
+            sources[*source].label = if own.is_empty() {
+                format!("case {index}")
+            } else {
+                format!("case {index}: {}", own.join(", "))
+            };
+        }
+    }
+    let mut title = overlay_title(&sources);
+    for o in &shared {
+        title.push_str(&format!(", {o}"));
+    }
     let mut drawn = histories(args, &sources, &title, out, kind)?;
     drawn.cases = cases;
     Ok(drawn)

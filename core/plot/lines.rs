@@ -63,6 +63,8 @@ pub(crate) struct Chart<'a> {
     pub zero_lines: bool,
     /// Vertical margins, px (top, bottom).
     pub margins: (u32, u32),
+    /// Draw the legend (when there is more than one curve).
+    pub legend: bool,
 }
 
 /// Most tick labels on the x axis.
@@ -165,7 +167,7 @@ pub(crate) fn draw_chart(area: &Area<'_>, chart: &Chart<'_>) -> Result<(), DrawE
             .legend(move |(x, y)| Rectangle::new([(x, y - 2), (x + 22, y + 2)], colour.filled()));
     }
 
-    if chart.curves.len() > 1 {
+    if chart.legend && chart.curves.len() > 1 {
         let corner = style::quietest_corner(
             chart
                 .curves
@@ -222,6 +224,7 @@ fn draw_lines(
             .collect(),
         zero_lines: false,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     style::write_svg(path, style::SIZE, |root| draw_chart(root, &chart))
 }
@@ -259,7 +262,8 @@ pub fn lines_with_markers(
 
 /// Writes several channels against one shared x axis (usually time) as
 /// vertically stacked panels to the SVG file `path`. Each panel has its own y
-/// axis and holds one or more series (legend when more than one); all panels
+/// axis and holds one or more series (legend when more than one, shown in
+/// the top panel and in any panel whose series differ from it); all panels
 /// share the x range, and only the bottom one carries x tick labels and the x
 /// axis title.
 ///
@@ -291,6 +295,9 @@ pub fn stacked(
             ));
         };
         let bottom = k + 1 == panels.len();
+        // A legend that repeats the first panel's adds nothing.
+        let labels = |s: &[Series]| s.iter().map(|s| s.label.clone()).collect::<Vec<_>>();
+        let show_legend = k == 0 || labels(series) != labels(&panels[0].1);
         charts.push(Chart {
             title: None,
             x_label: bottom.then_some(x_axis.label.as_str()),
@@ -305,6 +312,7 @@ pub fn stacked(
                 .collect(),
             zero_lines: false,
             margins: (6, 6),
+            legend: show_legend,
         });
     }
     let n = panels.len() as u32;

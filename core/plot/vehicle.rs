@@ -105,6 +105,7 @@ pub fn handling_diagram(
         curves,
         zero_lines: false,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     style::write_svg(path, style::SIZE, |root| draw_chart(root, &chart))
 }
@@ -182,6 +183,7 @@ pub fn gg(
         curves,
         zero_lines: true,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     write_square(path, (760, 700), title, &chart)
 }
