@@ -313,6 +313,8 @@ fn sweep_metric_against_parameter_one_line_per_other_value() {
             "yaw rate gain",
             "drive.front_share = 0.3",
             "drive.front_share = 0.7",
+            // The vehicle the script names, in the title.
+            "vehicle hybrid_crossover",
         ],
     );
     let out = yawdyn(dir.path(), &["plot", "sw.h5", "--metric", "yaw_rate_gian"]);

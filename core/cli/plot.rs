@@ -340,7 +340,7 @@ fn overlay_plot(args: &Args, out: &Path) -> anyhow::Result<Drawn> {
                             channels: case.channels,
                             provenance: Provenance {
                                 script_path: sweep.spec.script_path.clone(),
-                                vehicle_path: sweep.spec.vehicle_path.clone(),
+                                vehicle_path: sweep_vehicle(&sweep.spec),
                                 overrides: sweep
                                     .spec
                                     .base_overrides
@@ -543,8 +543,9 @@ fn sweep(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
         stem_of(&spec.script_path),
         metric.name.replace('_', " ")
     );
-    if !spec.vehicle_path.is_empty() {
-        title.push_str(&format!("; vehicle {}", stem_of(&spec.vehicle_path)));
+    let vehicle = sweep_vehicle(spec);
+    if !vehicle.is_empty() {
+        title.push_str(&format!("; vehicle {}", stem_of(&vehicle)));
     }
     for o in &spec.base_overrides {
         title.push_str(&format!(", {}", o.to_text()));
@@ -563,6 +564,24 @@ fn sweep(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
         cases: Vec::new(),
         notes: Vec::new(),
     })
+}
+
+/// The vehicle file of a sweep: `--vehicle` when given, else the path the
+/// script names in its `vehicle("...")` call (empty when neither is found).
+fn sweep_vehicle(spec: &yawdyn::sweep::SweepSpec) -> String {
+    if !spec.vehicle_path.is_empty() {
+        return spec.vehicle_path.clone();
+    }
+    spec.script_text
+        .lines()
+        .map(str::trim_start)
+        .filter(|l| !l.starts_with("//"))
+        .find_map(|l| {
+            let rest = l.strip_prefix("vehicle(")?.trim_start();
+            let quoted = rest.strip_prefix('"')?;
+            quoted.split_once('"').map(|(path, _)| path.to_string())
+        })
+        .unwrap_or_default()
 }
 
 /// File name without folders and extension.
