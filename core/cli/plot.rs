@@ -883,7 +883,7 @@ pub fn plot_map(map: &StabilityMap, path: &Path) -> anyhow::Result<String> {
         let no_trim = map.points.iter().filter(|p| !p.trim_found).count();
         let mut series = vec![Series::new(
             if no_trim > 0 {
-                format!("damping ratio (gaps: no trim at {no_trim} of {n0} points)")
+                format!("damping ratio (no trim at {no_trim} of {n0} points: left out)")
             } else {
                 "damping ratio".to_string()
             },
