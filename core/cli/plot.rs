@@ -1,26 +1,35 @@
-//! `yawdyn plot FILE [--channels a,b,...] [--x CHANNEL] [--out FILE.svg]
-//! [--kind auto|time|xy|handling|gg|sweep|map] [--metric NAME] [--by PARAM]`:
-//! an SVG plot of a yawdyn HDF5 file, chosen by the file's root `format`
-//! attribute.
+//! `yawdyn plot FILE... [--case LIST] [--channels a,b,...] [--x CHANNEL]
+//! [--out FILE.svg|FILE.png] [--png] [--kind auto|time|xy|handling|gg|sweep|map]
+//! [--metric NAME] [--by PARAM] [--json]`: a plot of yawdyn HDF5 files,
+//! chosen by each file's root `format` attribute.
 //!
-//! Results files: stacked time histories in engineering units (deg, deg/s,
-//! km/h, g), a cross-plot against `--x`, the handling diagram, or the
-//! friction-usage (g-g) plot. Stability maps: heat map of the yaw/sideslip
-//! damping ratio with unstable points marked. Sweep files: a metric against
-//! a varied parameter, one line per value of the others (`--metric`, `--by`).
+//! One results file: stacked time histories in engineering units (deg,
+//! deg/s, km/h, g), a cross-plot against `--x`, the handling diagram, or the
+//! friction-usage (g-g) plot. Several results files, or sweep cases picked
+//! with `--case`: the same time histories or cross-plot with one line per
+//! file or case and a legend naming each. Stability maps: heat map of the
+//! yaw/sideslip damping ratio with unstable points marked (a line plot for a
+//! one-axis map). Sweep files: a metric against a varied parameter, one line
+//! per value of the others (`--metric`, `--by`).
 //!
-//! Exit 0 when the plot was written; 2 for bad input (unreadable file,
-//! unknown channel, kind that does not fit the file, unwritable output).
+//! SVG by default; PNG when `--out` ends in `.png`, or beside the SVG with
+//! `--png`. Exit 0 when the plot was written; 2 for bad input (unreadable
+//! file, unknown channel or case, kind that does not fit the files,
+//! unwritable output).
 
 use std::path::{Path, PathBuf};
 
+use serde_json::json;
 use yawdyn::analysis::bicycle::STANDARD_GRAVITY;
 use yawdyn::plot::figures::{
     HandlingMethod, axis_label, channel_data, closest_names, engineering_unit, file_format,
-    handling_data, stored_vehicle, sweep_lines,
+    handling_data, stored_vehicle, sweep_lines, unit_text,
 };
-use yawdyn::plot::{Axis, Series, gg, handling_diagram, lines_with_markers, stacked};
-use yawdyn::results::{FORMAT_NAME, RunRecord, read_hdf5};
+use yawdyn::plot::{
+    Axis, HeatMap, Series, gg, handling_diagram, heat_map, lines, lines_with_markers, stacked,
+};
+use yawdyn::results::{FORMAT_NAME, Provenance, RunRecord, RunStatus, read_hdf5};
+use yawdyn::stability::{MapAxis, StabilityMap};
 
 use super::{Outcome, bad_input};
 
@@ -38,9 +47,9 @@ use yawdyn::sweep::FORMAT_NAME as SWEEP_FORMAT;
 /// What to draw.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Kind {
-    /// From the file: handling diagram for results whose script path
-    /// contains "circle", time histories for other results, metric lines for
-    /// sweeps, heat map for stability maps.
+    /// From the files: handling diagram for one results file whose script
+    /// path contains "circle", time histories for other results and for
+    /// overlays, metric lines for sweeps, heat map for stability maps.
     Auto,
     /// Stacked time histories.
     Time,
@@ -56,20 +65,45 @@ pub enum Kind {
     Map,
 }
 
+impl Kind {
+    fn name(self) -> &'static str {
+        match self {
+            Kind::Auto => "auto",
+            Kind::Time => "time",
+            Kind::Xy => "xy",
+            Kind::Handling => "handling",
+            Kind::Gg => "gg",
+            Kind::Sweep => "sweep",
+            Kind::Map => "map",
+        }
+    }
+}
+
 /// Arguments of `yawdyn plot`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// yawdyn HDF5 file: results, sweep or stability map.
-    file: PathBuf,
+    /// yawdyn HDF5 files: results, sweep or stability map. Several results
+    /// files (or sweep files with --case) are overlaid on one plot.
+    #[arg(required = true, num_args = 1..)]
+    files: Vec<PathBuf>,
+    /// Sweep cases to overlay, by case index, comma-separated (e.g. 3,7,12):
+    /// their channels as time histories or a cross-plot, one line per case.
+    #[arg(long, value_delimiter = ',', value_name = "INDEX")]
+    case: Vec<usize>,
     /// Channels to plot, comma-separated (default: speed, yaw_rate, ay, sideslip, steer_wheel_angle).
     #[arg(long, value_delimiter = ',')]
     channels: Vec<String>,
     /// Channel on the x axis (cross-plot) instead of time.
     #[arg(long, value_name = "CHANNEL")]
     x: Option<String>,
-    /// SVG file to write (default: the input file name with .svg).
+    /// File to write: SVG, or PNG when it ends in .png (default: the first
+    /// input with .svg; `<stem>_overlay.svg` for overlays).
     #[arg(long)]
     out: Option<PathBuf>,
+    /// Also write a PNG beside the SVG (same name, .png), rasterised with the
+    /// embedded font at twice the SVG's pixel size.
+    #[arg(long)]
+    png: bool,
     /// Kind of plot.
     #[arg(long, value_enum, default_value_t = Kind::Auto)]
     kind: Kind,
@@ -88,27 +122,104 @@ pub struct Args {
     /// Default: the start of the run's `speed_sweep` phase when it has one.
     #[arg(long, value_name = "S")]
     from: Option<f64>,
+    /// Print a JSON summary (files written, kind, series, cases) instead of text.
+    #[arg(long)]
+    json: bool,
+}
+
+/// What a plot command drew, for the closing report.
+struct Drawn {
+    kind: Kind,
+    title: String,
+    series: Vec<String>,
+    cases: Vec<usize>,
+    notes: Vec<String>,
 }
 
 /// Runs `yawdyn plot`.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
-    let format = file_format(&args.file)?;
-    let out = args
-        .out
-        .clone()
-        .unwrap_or_else(|| args.file.with_extension("svg"));
+    let first = args.files[0].clone();
+    let overlay = args.files.len() > 1 || !args.case.is_empty();
+    let out = match &args.out {
+        Some(p) => p.clone(),
+        None if overlay => {
+            let stem = first
+                .file_stem()
+                .map_or_else(|| "plot".into(), |s| s.to_string_lossy().into_owned());
+            first.with_file_name(format!("{stem}_overlay.svg"))
+        }
+        None => first.with_extension("svg"),
+    };
+    if args.png && yawdyn::plot::is_png_path(&out) {
+        return Err(bad_input(format!(
+            "--png writes a PNG beside the SVG; --out {} is already a PNG",
+            out.display()
+        )));
+    }
+    yawdyn::results::check_output_path(&out)?;
+    let png = args.png.then(|| out.with_extension("png"));
+    if let Some(p) = &png {
+        yawdyn::results::check_output_path(p)?;
+    }
+    let drawn = if overlay {
+        overlay_plot(&args, &out)?
+    } else {
+        single(&args, &first, &out)?
+    };
+    let mut written = vec![out.clone()];
+    if let Some(p) = png {
+        let svg = std::fs::read_to_string(&out).map_err(|source| yawdyn::plot::PlotError::Io {
+            path: out.clone(),
+            source,
+        })?;
+        let bytes =
+            yawdyn::plot::svg_to_png(&svg).map_err(|message| yawdyn::plot::PlotError::Draw {
+                path: p.clone(),
+                message,
+            })?;
+        std::fs::write(&p, bytes).map_err(|source| yawdyn::plot::PlotError::Io {
+            path: p.clone(),
+            source,
+        })?;
+        written.push(p);
+    }
+    if args.json {
+        let summary = json!({
+            "files_written": written.iter().map(|p| p.display().to_string()).collect::<Vec<_>>(),
+            "inputs": args.files.iter().map(|p| p.display().to_string()).collect::<Vec<_>>(),
+            "kind": drawn.kind.name(),
+            "title": drawn.title,
+            "series": drawn.series,
+            "cases": drawn.cases,
+            "notes": drawn.notes,
+        });
+        println!("{}", serde_json::to_string_pretty(&summary)?);
+    } else {
+        for note in &drawn.notes {
+            println!("{note}");
+        }
+        for p in &written {
+            println!("wrote {}", p.display());
+        }
+    }
+    Ok(Outcome::Success)
+}
+
+/// One input file, one plot: chosen by the file's format and `--kind`.
+fn single(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
+    let format = file_format(file)?;
     match format.as_str() {
         FORMAT_NAME => {}
-        MAP_FORMAT => return stability_map(&args, &out),
-        SWEEP_FORMAT => return sweep(&args, &out),
+        MAP_FORMAT => return stability_map(args, file, out),
+        SWEEP_FORMAT => return sweep(args, file, out),
         other => {
             return Err(bad_input(format!(
                 "{}: not a yawdyn file this command can plot (format {other:?})",
-                args.file.display()
+                file.display()
             )));
         }
     }
-    let record = read_hdf5(&args.file)?;
+    let record = read_hdf5(file)?;
     let kind = match args.kind {
         Kind::Auto if record.provenance.script_path.contains("circle") => Kind::Handling,
         Kind::Auto if args.x.is_some() => Kind::Xy,
@@ -116,19 +227,21 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         Kind::Sweep | Kind::Map => {
             return Err(bad_input(format!(
                 "--kind {} needs a sweep or stability-map file; {} is a results file",
-                if args.kind == Kind::Sweep {
-                    "sweep"
-                } else {
-                    "map"
-                },
-                args.file.display()
+                args.kind.name(),
+                file.display()
             )));
         }
         k => k,
     };
-    let title = title_of(&args.file, &record);
+    let title = run_title(file, &record);
     match kind {
-        Kind::Time | Kind::Xy => histories(&args, &record, &title, &out)?,
+        Kind::Time | Kind::Xy => {
+            let source = Source {
+                label: file_label(file),
+                record,
+            };
+            histories(args, std::slice::from_ref(&source), &title, out, kind)
+        }
         Kind::Handling => {
             let record = match args.from {
                 Some(t) if t.is_finite() => from_time(record, t),
@@ -138,25 +251,182 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
                     None => record,
                 },
             };
-            handling(&record, &title, &out, args.fit_max_g)?
+            handling(&record, &title, out, args.fit_max_g)
         }
-        Kind::Gg => friction_usage(&record, &title, &out)?,
+        Kind::Gg => friction_usage(&record, &title, out),
         Kind::Auto | Kind::Sweep | Kind::Map => unreachable!("resolved above"),
     }
-    println!("wrote {}", out.display());
-    Ok(Outcome::Success)
+}
+
+/// One overlaid run: a results file or one case of a sweep.
+struct Source {
+    /// Legend text: the file stem, or the case's varied overrides.
+    label: String,
+    /// Its samples (a sweep case becomes a record of its channels).
+    record: RunRecord,
+}
+
+/// Several results files and/or sweep cases overlaid as time histories or a
+/// cross-plot, one line per file or case.
+fn overlay_plot(args: &Args, out: &Path) -> anyhow::Result<Drawn> {
+    let kind = match args.kind {
+        Kind::Auto if args.x.is_some() => Kind::Xy,
+        Kind::Auto => Kind::Time,
+        k @ (Kind::Time | Kind::Xy) => k,
+        k => {
+            return Err(bad_input(format!(
+                "--kind {} draws one file; overlays of several files or --case are drawn as \
+                 time histories (--kind time) or a cross-plot (--kind xy with --x)",
+                k.name()
+            )));
+        }
+    };
+    let several_files = args.files.len() > 1;
+    let mut sources = Vec::new();
+    let mut cases = Vec::new();
+    let mut sweeps_seen = 0;
+    // (source, case index, varied overrides) of every sweep case.
+    let mut case_overrides: Vec<(usize, usize, Vec<String>)> = Vec::new();
+    for file in &args.files {
+        let format = file_format(file)?;
+        match format.as_str() {
+            FORMAT_NAME => sources.push(Source {
+                label: file_label(file),
+                record: read_hdf5(file)?,
+            }),
+            SWEEP_FORMAT => {
+                sweeps_seen += 1;
+                if args.case.is_empty() {
+                    return Err(bad_input(format!(
+                        "{} is a sweep file: choose its cases to overlay with --case (e.g. --case 0,5)",
+                        file.display()
+                    )));
+                }
+                let sweep = yawdyn::sweep::read_sweep(file)?;
+                for &index in &args.case {
+                    if sweep.summary.row_of(index).is_none() {
+                        return Err(bad_input(format!(
+                            "--case {index}: {} holds cases {}",
+                            file.display(),
+                            case_range(&sweep)
+                        )));
+                    }
+                    let case = sweep.read_case(index)?;
+                    if case.channels.is_empty() {
+                        return Err(bad_input(format!(
+                            "--case {index}: the case did not run ({}: {})",
+                            case.status.name(),
+                            case.message
+                        )));
+                    }
+                    let varied: Vec<String> = sweep
+                        .spec
+                        .grid
+                        .overrides(index)
+                        .iter()
+                        .map(|o| o.to_text())
+                        .collect();
+                    let label = if several_files {
+                        format!("{}: case {index}, {}", file_label(file), varied.join(", "))
+                    } else {
+                        format!("case {index}: {}", varied.join(", "))
+                    };
+                    cases.push(index);
+                    case_overrides.push((sources.len(), index, varied));
+                    sources.push(Source {
+                        label,
+                        record: RunRecord {
+                            time: case.time,
+                            channels: case.channels,
+                            provenance: Provenance {
+                                script_path: sweep.spec.script_path.clone(),
+                                vehicle_path: sweep_vehicle(&sweep.spec),
+                                overrides: sweep
+                                    .spec
+                                    .base_overrides
+                                    .iter()
+                                    .map(|o| o.to_text())
+                                    .collect(),
+                                ..Provenance::default()
+                            },
+                            status: RunStatus::Completed,
+                            metrics: case.metrics,
+                            criteria: Vec::new(),
+                        },
+                    });
+                }
+            }
+            MAP_FORMAT => {
+                return Err(bad_input(format!(
+                    "{} is a stability map: maps are plotted one at a time",
+                    file.display()
+                )));
+            }
+            other => {
+                return Err(bad_input(format!(
+                    "{}: not a yawdyn file this command can plot (format {other:?})",
+                    file.display()
+                )));
+            }
+        }
+    }
+    if !args.case.is_empty() && sweeps_seen == 0 {
+        return Err(bad_input(
+            "--case picks cases of a sweep file; no sweep file was given",
+        ));
+    }
+    // Cases of one sweep: the overrides they share go to the title, the
+    // legend keeps what tells them apart.
+    let mut shared: Vec<String> = Vec::new();
+    if !several_files && case_overrides.len() > 1 {
+        shared = case_overrides[0]
+            .2
+            .iter()
+            .filter(|o| case_overrides.iter().all(|(_, _, v)| v.contains(o)))
+            .cloned()
+            .collect();
+        for (source, index, varied) in &case_overrides {
+            let own: Vec<&str> = varied
+                .iter()
+                .filter(|o| !shared.contains(o))
+                .map(String::as_str)
+                .collect();
+            sources[*source].label = if own.is_empty() {
+                format!("case {index}")
+            } else {
+                format!("case {index}: {}", own.join(", "))
+            };
+        }
+    }
+    let mut title = overlay_title(&sources);
+    for o in &shared {
+        title.push_str(&format!(", {o}"));
+    }
+    let mut drawn = histories(args, &sources, &title, out, kind)?;
+    drawn.cases = cases;
+    Ok(drawn)
+}
+
+/// "0 to N-1" or the file's case indices when it is a shard.
+fn case_range(sweep: &yawdyn::sweep::SweepFile) -> String {
+    let indices = &sweep.summary.case_index;
+    match (indices.first(), indices.last()) {
+        (Some(a), Some(b)) => format!("{a} to {b}"),
+        _ => "none".into(),
+    }
 }
 
 /// Quantity drawn on stability maps (the one `yawdyn stability --plot` draws).
 const MAP_METRIC: &str = "yaw_damping_ratio";
 
 /// A stability map as a heat map of the yaw/sideslip damping ratio with the
-/// unstable points marked, drawn by the same routine as `yawdyn stability --plot`.
-fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
+/// unstable points marked (a line plot for one axis), drawn by the same
+/// routine as `yawdyn stability --plot`.
+fn stability_map(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
     if !matches!(args.kind, Kind::Auto | Kind::Map) {
         return Err(bad_input(format!(
             "{} is a stability map: use --kind map (or auto)",
-            args.file.display()
+            file.display()
         )));
     }
     if let Some(metric) = &args.metric
@@ -166,19 +436,23 @@ fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
             "stability maps are plotted as {MAP_METRIC}; --metric {metric} is not available"
         )));
     }
-    let map = yawdyn::stability::read_map(&args.file)?;
+    let map = yawdyn::stability::read_map(file)?;
     if map.axes.is_empty() || map.points.is_empty() {
         return Err(bad_input(format!(
             "{}: the stability map has no points",
-            args.file.display()
+            file.display()
         )));
     }
-    super::stability::plot_map(&map, out)?;
-    println!("wrote {}", out.display());
-    Ok(Outcome::Success)
+    let title = plot_map(&map, out)?;
+    Ok(Drawn {
+        kind: Kind::Map,
+        title,
+        series: vec![MAP_METRIC.to_string()],
+        cases: Vec::new(),
+        notes: Vec::new(),
+    })
 }
 
-/// The record restricted to the samples at or after `t0`, s.
 /// Start time of the phase `name` recorded in the provenance, s.
 fn phase_start(record: &RunRecord, name: &str) -> Option<f64> {
     let key = format!("phase.{name}");
@@ -190,6 +464,7 @@ fn phase_start(record: &RunRecord, name: &str) -> Option<f64> {
         .and_then(|(_, v)| v.parse().ok())
 }
 
+/// The record restricted to the samples at or after `t0`, s.
 fn from_time(mut record: RunRecord, t0: f64) -> RunRecord {
     let start = record.time.partition_point(|&t| t < t0);
     record.time.drain(..start);
@@ -202,15 +477,15 @@ fn from_time(mut record: RunRecord, t0: f64) -> RunRecord {
 /// A metric of a sweep against one varied parameter, one line per
 /// combination of the other varied parameters (`--by` names the parameter
 /// that makes the lines; the x axis is the first other one).
-fn sweep(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
+fn sweep(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
     if !matches!(args.kind, Kind::Auto | Kind::Sweep) {
         return Err(bad_input(format!(
-            "{} is a sweep file: use --kind sweep (or auto)",
-            args.file.display()
+            "{} is a sweep file: use --kind sweep (or auto), or --case to overlay cases",
+            file.display()
         )));
     }
-    let file = yawdyn::sweep::read_sweep(&args.file)?;
-    let summary = &file.summary;
+    let sweep = yawdyn::sweep::read_sweep(file)?;
+    let summary = &sweep.summary;
     let keys: Vec<&str> = summary.parameters.iter().map(|(k, _)| k.as_str()).collect();
     let names: Vec<&str> = summary.metrics.iter().map(|m| m.name.as_str()).collect();
     let metric = match &args.metric {
@@ -262,31 +537,159 @@ fn sweep(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
             Series::new(label, l.x, l.y)
         })
         .collect();
-    let name = args
-        .file
-        .file_name()
-        .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
+    let spec = &sweep.spec;
+    let mut title = format!(
+        "{}: {} against {x_key}",
+        stem_of(&spec.script_path),
+        metric.name.replace('_', " ")
+    );
+    let vehicle = sweep_vehicle(spec);
+    if !vehicle.is_empty() {
+        title.push_str(&format!("; vehicle {}", stem_of(&vehicle)));
+    }
+    for o in &spec.base_overrides {
+        title.push_str(&format!(", {}", o.to_text()));
+    }
     lines_with_markers(
         out,
-        &format!("{name}: {} against {x_key}", metric.name),
+        &title,
         &Axis::new(x_key),
         &Axis::new(axis_label(&metric.name, &eng.unit)),
         &series,
     )?;
-    println!("wrote {}", out.display());
-    Ok(Outcome::Success)
+    Ok(Drawn {
+        kind: Kind::Sweep,
+        title,
+        series: series.iter().map(|s| s.label.clone()).collect(),
+        cases: Vec::new(),
+        notes: Vec::new(),
+    })
 }
 
-fn title_of(file: &Path, record: &RunRecord) -> String {
-    let name = file
-        .file_name()
-        .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
-    // File names only: full paths make titles too long for the plot.
-    let script = Path::new(&record.provenance.script_path)
-        .file_name()
+/// The vehicle file of a sweep: `--vehicle` when given, else the path the
+/// script names in its `vehicle("...")` call (empty when neither is found).
+fn sweep_vehicle(spec: &yawdyn::sweep::SweepSpec) -> String {
+    if !spec.vehicle_path.is_empty() {
+        return spec.vehicle_path.clone();
+    }
+    spec.script_text
+        .lines()
+        .map(str::trim_start)
+        .filter(|l| !l.starts_with("//"))
+        .find_map(|l| {
+            let rest = l.strip_prefix("vehicle(")?.trim_start();
+            let quoted = rest.strip_prefix('"')?;
+            quoted.split_once('"').map(|(path, _)| path.to_string())
+        })
+        .unwrap_or_default()
+}
+
+/// File name without folders and extension.
+fn stem_of(path: &str) -> String {
+    Path::new(path)
+        .file_stem()
         .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_default();
-    if script.is_empty() { name } else { script }
+        .unwrap_or_default()
+}
+
+/// Legend text of a results file: its stem.
+fn file_label(file: &Path) -> String {
+    file.file_stem().map_or_else(
+        || file.display().to_string(),
+        |s| s.to_string_lossy().into_owned(),
+    )
+}
+
+/// The vehicle of a record by name: the stored vehicle's own name, else its
+/// file stem.
+fn vehicle_name(record: &RunRecord) -> String {
+    stored_vehicle(record)
+        .ok()
+        .map(|v| v.name)
+        .filter(|n| !n.trim().is_empty())
+        .unwrap_or_else(|| stem_of(&record.provenance.vehicle_path))
+}
+
+/// The operating point of a run: start speed and the `--set` overrides.
+fn operating_point(record: &RunRecord) -> Vec<String> {
+    let mut parts = Vec::new();
+    if let Some((_, v)) = record
+        .provenance
+        .extra
+        .iter()
+        .find(|(k, _)| k == "start_speed")
+        && let Ok(speed) = v.parse::<f64>()
+        && speed.is_finite()
+    {
+        parts.push(format!("start {} km/h", round_to(speed * 3.6, 1)));
+    }
+    parts.extend(record.provenance.overrides.iter().cloned());
+    parts
+}
+
+fn round_to(value: f64, decimals: i32) -> f64 {
+    let scale = 10f64.powi(decimals);
+    (value * scale).round() / scale
+}
+
+/// Title of a one-run plot: script, vehicle and operating point, e.g.
+/// "step_steer: Hybrid crossover (invented demo), start 100 km/h".
+fn run_title(file: &Path, record: &RunRecord) -> String {
+    let script = stem_of(&record.provenance.script_path);
+    let mut title = if script.is_empty() {
+        file_label(file)
+    } else {
+        script
+    };
+    let vehicle = vehicle_name(record);
+    if !vehicle.is_empty() {
+        title.push_str(": ");
+        title.push_str(&vehicle);
+    }
+    for part in operating_point(record) {
+        title.push_str(", ");
+        title.push_str(&part);
+    }
+    title
+}
+
+/// Title of an overlay: what the runs share (script, vehicle, common
+/// overrides), the differences being in the legend.
+fn overlay_title(sources: &[Source]) -> String {
+    let mut scripts: Vec<String> = Vec::new();
+    let mut vehicles: Vec<String> = Vec::new();
+    for s in sources {
+        let script = stem_of(&s.record.provenance.script_path);
+        if !script.is_empty() && !scripts.contains(&script) {
+            scripts.push(script);
+        }
+        let vehicle = vehicle_name(&s.record);
+        if !vehicle.is_empty() && !vehicles.contains(&vehicle) {
+            vehicles.push(vehicle);
+        }
+    }
+    let mut title = format!("Comparison of {} runs", sources.len());
+    if !scripts.is_empty() {
+        title.push_str(&format!(": {}", scripts.join(", ")));
+    }
+    if !vehicles.is_empty() {
+        title.push_str(&format!("; {}", vehicles.join(", ")));
+    }
+    let common: Vec<&String> = sources[0]
+        .record
+        .provenance
+        .overrides
+        .iter()
+        .filter(|o| {
+            sources
+                .iter()
+                .all(|s| s.record.provenance.overrides.contains(o))
+        })
+        .collect();
+    for o in common {
+        title.push_str(&format!(", {o}"));
+    }
+    title
 }
 
 /// A channel's samples in display units, with its axis title.
@@ -300,27 +703,75 @@ fn display_channel(record: &RunRecord, name: &str) -> anyhow::Result<(Vec<f64>, 
     ))
 }
 
-fn histories(args: &Args, record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
+/// Stacked time histories (or one cross-plot against `--x`) of the chosen
+/// channels, one line per source in every panel.
+fn histories(
+    args: &Args,
+    sources: &[Source],
+    title: &str,
+    out: &Path,
+    kind: Kind,
+) -> anyhow::Result<Drawn> {
     let names: Vec<String> = if args.channels.is_empty() {
         DEFAULT_CHANNELS.iter().map(|s| s.to_string()).collect()
     } else {
         args.channels.clone()
     };
-    let (x, x_label) = match &args.x {
-        Some(name) => display_channel(record, name)?,
-        None => (record.time.clone(), "time [s]".to_string()),
+    let with_source = |label: &str, e: anyhow::Error| {
+        if sources.len() > 1 {
+            e.context(format!("in {label}"))
+        } else {
+            e
+        }
     };
+    let mut xs = Vec::with_capacity(sources.len());
+    let mut x_label = "time [s]".to_string();
+    for s in sources {
+        match (&args.x, kind) {
+            (Some(name), Kind::Xy) | (Some(name), Kind::Auto) => {
+                let (x, label) =
+                    display_channel(&s.record, name).map_err(|e| with_source(&s.label, e))?;
+                x_label = label;
+                xs.push(x);
+            }
+            (None, Kind::Xy) => {
+                return Err(bad_input("--kind xy needs --x CHANNEL"));
+            }
+            _ => xs.push(s.record.time.clone()),
+        }
+    }
     let mut panels = Vec::with_capacity(names.len());
     for name in &names {
-        let (y, label) = display_channel(record, name)?;
-        let series = Series::new(name.replace('_', " "), x.clone(), y);
-        panels.push((Axis::new(label), vec![series]));
+        let mut label = String::new();
+        let mut series = Vec::with_capacity(sources.len());
+        for (s, x) in sources.iter().zip(&xs) {
+            let (y, l) = display_channel(&s.record, name).map_err(|e| with_source(&s.label, e))?;
+            label = l;
+            let legend = if sources.len() > 1 {
+                s.label.clone()
+            } else {
+                name.replace('_', " ")
+            };
+            series.push(Series::new(legend, x.clone(), y));
+        }
+        panels.push((Axis::new(label), series));
     }
-    stacked(out, title, &Axis::new(x_label), &panels)?;
-    Ok(())
+    if kind == Kind::Xy && panels.len() == 1 {
+        let (axis, series) = &panels[0];
+        lines(out, title, &Axis::new(&x_label), axis, series)?;
+    } else {
+        stacked(out, title, &Axis::new(x_label), &panels)?;
+    }
+    Ok(Drawn {
+        kind,
+        title: title.to_string(),
+        series: sources.iter().map(|s| s.label.clone()).collect(),
+        cases: Vec::new(),
+        notes: Vec::new(),
+    })
 }
 
-fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyhow::Result<()> {
+fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyhow::Result<Drawn> {
     if !(fit_max_g.is_finite() && fit_max_g > 0.0) {
         return Err(bad_input(format!(
             "--fit-max-g must be finite and positive, got {fit_max_g}"
@@ -328,29 +779,39 @@ fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyh
     }
     let data = handling_data(record, fit_max_g * STANDARD_GRAVITY)?;
     let fit = data.fit;
-    let method = match data.method {
-        HandlingMethod::ConstantRadius { radius_m } => {
-            format!("handling diagram, R = {radius_m} m")
-        }
-        HandlingMethod::AckermannCorrected => {
-            "road-wheel angle minus Ackermann angle L*curvature".to_string()
-        }
+    let (method, y_label) = match data.method {
+        HandlingMethod::ConstantRadius { radius_m } => (
+            format!("handling diagram, R = {radius_m} m"),
+            "road-wheel angle [deg]",
+        ),
+        HandlingMethod::AckermannCorrected => (
+            "handling diagram, road-wheel angle less the Ackermann angle L*curvature".to_string(),
+            "road-wheel angle - Ackermann angle [deg]",
+        ),
     };
+    let title = format!("{title}; {method}");
     handling_diagram(
         out,
-        &format!("{title}: {method}"),
+        &title,
+        y_label,
         &data.lat_accel_g,
         &data.steer_deg,
         Some((fit.gradient_deg_per_g, fit.intercept_deg, fit.ay_max_g)),
     )?;
-    println!(
+    let note = format!(
         "understeer gradient {:.3} deg/g ({} points, |ay| <= {fit_max_g:.3} g, R^2 {:.4})",
         fit.gradient_deg_per_g, fit.count, fit.r_squared
     );
-    Ok(())
+    Ok(Drawn {
+        kind: Kind::Handling,
+        title,
+        series: vec!["simulation".into(), "linear fit".into()],
+        cases: Vec::new(),
+        notes: vec![note],
+    })
 }
 
-fn friction_usage(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<()> {
+fn friction_usage(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result<Drawn> {
     let g = STANDARD_GRAVITY;
     let ax: Vec<f64> = channel_data(record, "ax")?.iter().map(|a| a / g).collect();
     let ay: Vec<f64> = channel_data(record, "ay")?.iter().map(|a| a / g).collect();
@@ -360,5 +821,125 @@ fn friction_usage(record: &RunRecord, title: &str, out: &Path) -> anyhow::Result
         .map(|v| v.road.friction)
         .filter(|m| m.is_finite() && *m > 0.0);
     gg(out, title, &ax, &ay, mu)?;
-    Ok(())
+    Ok(Drawn {
+        kind: Kind::Gg,
+        title: title.to_string(),
+        series: vec!["acceleration".into()],
+        cases: Vec::new(),
+        notes: Vec::new(),
+    })
+}
+
+/// Readable axis title of a stability-map axis: the operating-point keys by
+/// name ("lateral acceleration [g]"), parameter paths as written with
+/// their unit when the map has one.
+pub fn map_axis_label(axis: &MapAxis) -> String {
+    let name = match axis.key.as_str() {
+        "speed_kph" => "speed",
+        "lat_accel_g" => "lateral acceleration",
+        "long_accel_g" => "longitudinal acceleration",
+        "front_share" => "front share of drive torque",
+        other => other,
+    };
+    let unit = match axis.key.as_str() {
+        "speed_kph" => "km/h",
+        "lat_accel_g" | "long_accel_g" => "g",
+        "front_share" => "1",
+        _ => axis.unit.as_str(),
+    };
+    if unit.is_empty() {
+        name.to_string()
+    } else {
+        format!("{name} [{}]", unit_text(unit))
+    }
+}
+
+/// Draws the yaw/sideslip damping ratio of a stability map to `path`: a heat
+/// map with unstable points hatched for two axes, a line with unstable points
+/// marked for one. The title names the vehicle and the fixed conditions.
+/// Returns the title.
+pub fn plot_map(map: &StabilityMap, path: &Path) -> anyhow::Result<String> {
+    let [n1, n0] = map.shape();
+    let mut title = format!("Yaw/sideslip damping ratio: {}", map.vehicle_name);
+    if !map.description.trim().is_empty() {
+        title.push_str(&format!("; fixed: {}", map.description.trim()));
+    }
+    let z_label = "yaw/sideslip damping ratio [1]";
+    let x_axis = Axis::new(map_axis_label(&map.axes[0]));
+    let Some(y_map_axis) = map.axes.get(1) else {
+        // One axis: a line plot, gaps where no trim exists.
+        let x = map.axes[0].values.clone();
+        let damping: Vec<f64> = map
+            .points
+            .iter()
+            .map(|p| {
+                if p.trim_found {
+                    p.yaw_damping_ratio
+                } else {
+                    f64::NAN
+                }
+            })
+            .collect();
+        let no_trim = map.points.iter().filter(|p| !p.trim_found).count();
+        let mut series = vec![Series::new(
+            if no_trim > 0 {
+                format!("damping ratio (no trim at {no_trim} of {n0} points: left out)")
+            } else {
+                "damping ratio".to_string()
+            },
+            x.clone(),
+            damping.clone(),
+        )];
+        let unstable: Vec<f64> = map
+            .points
+            .iter()
+            .zip(&damping)
+            .map(|(p, &d)| {
+                if p.trim_found && !p.stable {
+                    d
+                } else {
+                    f64::NAN
+                }
+            })
+            .collect();
+        if unstable.iter().any(|v| v.is_finite()) {
+            series.push(Series::new("unstable", x, unstable));
+        }
+        lines_with_markers(path, &title, &x_axis, &Axis::new(z_label), &series)?;
+        return Ok(title);
+    };
+    let y_axis = Axis::new(map_axis_label(y_map_axis));
+    let z: Vec<Vec<f64>> = (0..n1)
+        .map(|j| {
+            (0..n0)
+                .map(|i| map.points[j * n0 + i].yaw_damping_ratio)
+                .collect()
+        })
+        .collect();
+    let marks: Vec<Vec<bool>> = (0..n1)
+        .map(|j| {
+            (0..n0)
+                .map(|i| {
+                    let p = &map.points[j * n0 + i];
+                    p.trim_found && !p.stable
+                })
+                .collect()
+        })
+        .collect();
+    heat_map(
+        path,
+        &title,
+        &HeatMap {
+            x_axis: &x_axis,
+            y_axis: &y_axis,
+            x: &map.axes[0].values,
+            y: &y_map_axis.values,
+            z: &z,
+            z_label,
+            highlight: Some(&marks),
+            highlight_label: "unstable",
+            missing_label: "no trim",
+        },
+    )?;
+    Ok(title)
 }

@@ -13,7 +13,6 @@ use yawdyn::assets::resolve_vehicle;
 use yawdyn::error::{Classify, ErrorKind};
 use yawdyn::model::WHEEL_NAMES;
 use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle_text};
-use yawdyn::plot::{Axis, HeatMap, heat_map};
 use yawdyn::stability::{
     MapAxis, MapPoint, StabilityError, StabilityMap, StabilityReport, TrimSettings, TrimTarget,
     UNSTABLE_REAL_PART, analyse, write_map,
@@ -203,6 +202,24 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     }
     if vary.len() == 2 && vary[0].key == vary[1].key {
         return Err(bad_input("the two --vary keys must differ"));
+    }
+    // A quantity given both fixed and varied would be silently overridden.
+    for a in &vary {
+        let fixed = match a.key.as_str() {
+            "speed_kph" => args.speed_kph.is_some(),
+            "lat_accel_g" => args.lat_accel_g.is_some(),
+            "front_share" => args.front_share.is_some(),
+            "long_accel_g" => args.long_accel_g != 0.0,
+            _ => false,
+        };
+        if fixed {
+            return Err(bad_input(format!(
+                "--{} and --vary {}=...: the quantity is varied, so the fixed value would be \
+                 ignored; give one or the other",
+                a.key.replace('_', "-"),
+                a.key
+            )));
+        }
     }
     if vary.is_empty() {
         if args.out.is_some() || args.plot.is_some() {
@@ -539,7 +556,7 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
         write_map(&map, out)?;
     }
     if let Some(svg) = &args.plot {
-        plot_map(&map, svg)?;
+        super::plot::plot_map(&map, svg)?;
     }
     let stable = map.points.iter().filter(|p| p.stable).count();
     let no_trim = map.points.iter().filter(|p| !p.trim_found).count();
@@ -639,65 +656,4 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
 
 fn finite(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
-}
-
-/// Plot title: "Yaw damping: <vehicle>", the name cut to fit the canvas.
-fn map_title(vehicle_name: &str) -> String {
-    let name: String = vehicle_name.chars().take(48).collect();
-    let cut = if name.len() < vehicle_name.len() {
-        "..."
-    } else {
-        ""
-    };
-    format!("Yaw damping: {name}{cut}")
-}
-
-/// Draws the yaw/sideslip damping ratio over the grid, unstable points hatched.
-pub fn plot_map(map: &StabilityMap, path: &Path) -> anyhow::Result<()> {
-    let [n1, n0] = map.shape();
-    let label = |a: &MapAxis| {
-        if a.unit.is_empty() {
-            a.key.clone()
-        } else {
-            format!("{} [{}]", a.key, a.unit)
-        }
-    };
-    let x_axis = Axis::new(label(&map.axes[0]));
-    let (y_axis, y) = match map.axes.get(1) {
-        Some(a) => (Axis::new(label(a)), a.values.clone()),
-        None => (Axis::new("(single row)"), vec![0.0]),
-    };
-    let z: Vec<Vec<f64>> = (0..n1)
-        .map(|j| {
-            (0..n0)
-                .map(|i| map.points[j * n0 + i].yaw_damping_ratio)
-                .collect()
-        })
-        .collect();
-    let marks: Vec<Vec<bool>> = (0..n1)
-        .map(|j| {
-            (0..n0)
-                .map(|i| {
-                    let p = &map.points[j * n0 + i];
-                    p.trim_found && !p.stable
-                })
-                .collect()
-        })
-        .collect();
-    heat_map(
-        path,
-        &map_title(&map.vehicle_name),
-        &HeatMap {
-            x_axis: &x_axis,
-            y_axis: &y_axis,
-            x: &map.axes[0].values,
-            y: &y,
-            z: &z,
-            z_label: "yaw/sideslip damping ratio [1]",
-            highlight: Some(&marks),
-            highlight_label: "unstable",
-            missing_label: "no trim",
-        },
-    )?;
-    Ok(())
 }

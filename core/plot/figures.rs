@@ -39,13 +39,18 @@ pub fn engineering_unit(si_unit: &str) -> EngineeringUnit {
 }
 
 /// Axis title for a channel: its name with spaces for underscores and the
-/// display unit in brackets, e.g. `yaw rate [deg/s]` (`[-]` for `1` or no unit).
+/// display unit in brackets, e.g. `yaw rate [deg/s]` (`[1]` for `1` or no unit; `²` written `^2`).
 pub fn axis_label(name: &str, display_unit: &str) -> String {
-    let unit = match display_unit {
-        "" | "1" => "-",
-        u => u,
-    };
-    format!("{} [{unit}]", name.replace('_', " "))
+    format!("{} [{}]", name.replace('_', " "), unit_text(display_unit))
+}
+
+/// A unit as plot labels write it: ASCII exponents (`m/s^2`, not `m/s²`)
+/// and `1` for dimensionless quantities (empty, `-` or `1`).
+pub fn unit_text(unit: &str) -> String {
+    match unit.trim() {
+        "" | "-" | "1" => "1".to_string(),
+        u => u.replace('²', "^2").replace('³', "^3").replace('·', "*"),
+    }
 }
 
 /// Up to `count` of `candidates` closest to `wanted` (Jaro–Winkler
@@ -397,7 +402,7 @@ mod tests {
         assert!((engineering_unit("m/s^2").factor * 9.80665 - 1.0).abs() < 1e-15);
         assert_eq!(engineering_unit("N").unit, "N");
         assert_eq!(axis_label("yaw_rate", "deg/s"), "yaw rate [deg/s]");
-        assert_eq!(axis_label("front_share", "1"), "front share [-]");
+        assert_eq!(axis_label("front_share", "1"), "front share [1]");
     }
 
     use crate::results::{Channel, Metric, Provenance, RunStatus};

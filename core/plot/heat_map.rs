@@ -7,8 +7,8 @@ use std::path::Path;
 use plotters::prelude::*;
 
 use super::style::{
-    self, AXIS_COLOUR, AXIS_TITLE_SIZE, FONT, LEGEND_SIZE, MARGIN, TICK_SIZE, TITLE_SIZE,
-    X_LABEL_AREA, Y_LABEL_AREA,
+    self, AXIS_COLOUR, AXIS_TITLE_SIZE, FONT, LEGEND_SIZE, MARGIN, TICK_SIZE, X_LABEL_AREA,
+    Y_LABEL_AREA,
 };
 use super::{Axis, PlotError};
 
@@ -27,7 +27,7 @@ pub struct HeatMap<'a> {
     /// y value, each row as long as `x`. Non-finite values are drawn as grey
     /// "no data" cells.
     pub z: &'a [Vec<f64>],
-    /// Title (with unit) of the colour bar, e.g. "yaw damping ratio [-]".
+    /// Title (with unit) of the colour bar, e.g. "yaw damping ratio [1]".
     pub z_label: &'a str,
     /// Cells to mark, in the same layout as `z` (`highlight[j][i]`), or `None`.
     pub highlight: Option<&'a [Vec<bool>]>,
@@ -164,7 +164,7 @@ fn check_shape<T>(
 ///     x: &speed,
 ///     y: &steer,
 ///     z: &damping,
-///     z_label: "damping ratio [-]",
+///     z_label: "damping ratio [1]",
 ///     highlight: Some(&unstable),
 ///     highlight_label: "unstable",
 ///     missing_label: "no data",
@@ -195,7 +195,7 @@ pub fn heat_map(path: &Path, title: &str, map: &HeatMap<'_>) -> Result<(), PlotE
     let (y0, y1) = (ye[0], ye[ny]);
 
     style::write_svg(path, style::SIZE, |root| {
-        let mut body = root.titled(title, (FONT, TITLE_SIZE))?;
+        let mut body = style::titled(root, title)?;
         let legend_row = if map.highlight.is_some() || any_missing {
             let (row, rest) = body.split_vertically(28);
             body = rest;
@@ -387,7 +387,7 @@ mod tests {
             x: &x,
             y: &y,
             z: &z,
-            z_label: "yaw damping ratio [-]",
+            z_label: "yaw damping ratio [1]",
             highlight: Some(&marks),
             highlight_label: "unstable",
             missing_label: "no data",
@@ -399,7 +399,7 @@ mod tests {
             "Stability map",
             "speed [m/s]",
             "steer angle [deg]",
-            "yaw damping ratio [-]",
+            "yaw damping ratio [1]",
             "unstable",
         ] {
             assert!(svg.contains(text), "missing text {text:?}");
@@ -440,7 +440,7 @@ mod tests {
                 x: &[1.0, 2.0, 3.0],
                 y: &[1.0, 2.0, 3.0],
                 z: &z,
-                z_label: "c [-]",
+                z_label: "c [1]",
                 highlight: Some(marks),
                 highlight_label: "marked",
                 missing_label: "no data",
@@ -477,7 +477,7 @@ mod tests {
             x: &x,
             y: &y,
             z: &z,
-            z_label: "c [-]",
+            z_label: "c [1]",
             highlight: None,
             highlight_label: "",
             missing_label: "no data",
@@ -500,7 +500,7 @@ mod tests {
             x: &x,
             y: &y,
             z: &z,
-            z_label: "c [-]",
+            z_label: "c [1]",
             highlight: Some(&marks),
             highlight_label: "marked",
             missing_label: "no data",
@@ -567,7 +567,7 @@ mod tests {
             x: &[1.0],
             y: &[2.0],
             z: &z,
-            z_label: "c [-]",
+            z_label: "c [1]",
             highlight: None,
             highlight_label: "",
             missing_label: "no data",

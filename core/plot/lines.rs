@@ -4,12 +4,12 @@
 
 use std::path::Path;
 
-use plotters::coord::Shift;
 use plotters::prelude::*;
 
+use super::canvas::{FinePolyline, draw_fine, pixel_mapping};
 use super::style::{
-    self, AXIS_COLOUR, AXIS_TITLE_SIZE, DrawError, FINE_GRID, FONT, GRID, LEGEND_SIZE, LINE_WIDTH,
-    MARGIN, MARKER_RADIUS, REFERENCE, TICK_SIZE, TITLE_SIZE, X_LABEL_AREA, Y_LABEL_AREA,
+    self, AXIS_COLOUR, AXIS_TITLE_SIZE, Area, DrawError, FINE_GRID, FONT, GRID, LEGEND_SIZE,
+    LINE_WIDTH, MARGIN, MARKER_RADIUS, REFERENCE, TICK_SIZE, X_LABEL_AREA, Y_LABEL_AREA,
 };
 use super::{Axis, PlotError, Series};
 
@@ -63,6 +63,8 @@ pub(crate) struct Chart<'a> {
     pub zero_lines: bool,
     /// Vertical margins, px (top, bottom).
     pub margins: (u32, u32),
+    /// Draw the legend (when there is more than one curve).
+    pub legend: bool,
 }
 
 /// Most tick labels on the x axis.
@@ -70,13 +72,14 @@ const X_TICKS: usize = 10;
 
 /// Draws one chart (axes, grid, curves, legend when there is more than one
 /// curve) filling `area`.
-pub(crate) fn draw_chart(
-    area: &DrawingArea<SVGBackend<'_>, Shift>,
-    chart: &Chart<'_>,
-) -> Result<(), DrawError> {
+pub(crate) fn draw_chart(area: &Area<'_>, chart: &Chart<'_>) -> Result<(), DrawError> {
     let (x0, x1) = chart.x_range;
     let (y0, y1) = chart.y_range;
-    let mut builder = ChartBuilder::on(area);
+    let area = match chart.title {
+        Some(title) => style::titled(area, title)?,
+        None => area.clone(),
+    };
+    let mut builder = ChartBuilder::on(&area);
     builder
         .margin_top(chart.margins.0)
         .margin_bottom(chart.margins.1)
@@ -88,9 +91,6 @@ pub(crate) fn draw_chart(
         } else {
             4
         });
-    if let Some(title) = chart.title {
-        builder.caption(title, (FONT, TITLE_SIZE));
-    }
     let mut ctx = builder.build_cartesian_2d(x0..x1, y0..y1)?;
 
     let x_span = x1 - x0;
@@ -115,26 +115,33 @@ pub(crate) fn draw_chart(
     };
     mesh.draw()?;
 
+    // Data lines go through floating-point pixel positions (no stair steps).
+    let to_px = pixel_mapping(ctx.plotting_area(), chart.x_range, chart.y_range);
+    let screen = ctx.plotting_area().strip_coord_spec();
+    let fine = |points: &[(f64, f64)], colour: RGBColor, width: f64, dashed: bool| FinePolyline {
+        points: points.iter().map(|&p| to_px(p)).collect(),
+        colour,
+        width,
+        dash: dashed.then_some((12.0, 6.0)),
+    };
+
     if chart.zero_lines {
-        let thin = REFERENCE.stroke_width(1);
         if x0 < 0.0 && x1 > 0.0 {
-            ctx.draw_series(std::iter::once(PathElement::new(
-                vec![(0.0, y0), (0.0, y1)],
-                thin,
-            )))?;
+            draw_fine(
+                &screen,
+                &fine(&[(0.0, y0), (0.0, y1)], REFERENCE, 1.0, false),
+            )?;
         }
         if y0 < 0.0 && y1 > 0.0 {
-            ctx.draw_series(std::iter::once(PathElement::new(
-                vec![(x0, 0.0), (x1, 0.0)],
-                thin,
-            )))?;
+            draw_fine(
+                &screen,
+                &fine(&[(x0, 0.0), (x1, 0.0)], REFERENCE, 1.0, false),
+            )?;
         }
     }
 
     for curve in &chart.curves {
-        let line = curve.colour.stroke_width(curve.width);
         let dot = curve.colour.filled();
-        let mut first = true;
         for segment in &curve.segments {
             // A lone point has no line to show it; give it a dot.
             if segment.len() == 1 && !curve.markers {
@@ -144,37 +151,23 @@ pub(crate) fn draw_chart(
                     dot,
                 )))?;
             } else {
-                let points = segment.iter().copied();
-                let drawn = if curve.dashed {
-                    ctx.draw_series(DashedLineSeries::new(points, 12, 6, line))?
-                } else {
-                    ctx.draw_series(LineSeries::new(points, line))?
-                };
-                if first {
-                    let colour = curve.colour;
-                    drawn.label(curve.label).legend(move |(x, y)| {
-                        Rectangle::new([(x, y - 2), (x + 22, y + 2)], colour.filled())
-                    });
-                    first = false;
-                }
+                draw_fine(
+                    &screen,
+                    &fine(segment, curve.colour, f64::from(curve.width), curve.dashed),
+                )?;
             }
             if curve.markers {
                 ctx.draw_series(segment.iter().map(|&p| Circle::new(p, MARKER_RADIUS, dot)))?;
             }
         }
-        if first {
-            // No drawable line (no data, or only lone points): keep the
-            // legend entry so the reader still sees the series exists.
-            let colour = curve.colour;
-            ctx.draw_series(std::iter::empty::<Circle<(f64, f64), u32>>())?
-                .label(curve.label)
-                .legend(move |(x, y)| {
-                    Rectangle::new([(x, y - 2), (x + 22, y + 2)], colour.filled())
-                });
-        }
+        // The legend entry: a swatch in the curve's colour.
+        let colour = curve.colour;
+        ctx.draw_series(std::iter::empty::<Circle<(f64, f64), u32>>())?
+            .label(curve.label)
+            .legend(move |(x, y)| Rectangle::new([(x, y - 2), (x + 22, y + 2)], colour.filled()));
     }
 
-    if chart.curves.len() > 1 {
+    if chart.legend && chart.curves.len() > 1 {
         let corner = style::quietest_corner(
             chart
                 .curves
@@ -231,6 +224,7 @@ fn draw_lines(
             .collect(),
         zero_lines: false,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     style::write_svg(path, style::SIZE, |root| draw_chart(root, &chart))
 }
@@ -268,7 +262,8 @@ pub fn lines_with_markers(
 
 /// Writes several channels against one shared x axis (usually time) as
 /// vertically stacked panels to the SVG file `path`. Each panel has its own y
-/// axis and holds one or more series (legend when more than one); all panels
+/// axis and holds one or more series (legend when more than one, shown in
+/// the top panel and in any panel whose series differ from it); all panels
 /// share the x range, and only the bottom one carries x tick labels and the x
 /// axis title.
 ///
@@ -300,6 +295,9 @@ pub fn stacked(
             ));
         };
         let bottom = k + 1 == panels.len();
+        // A legend that repeats the first panel's adds nothing.
+        let labels = |s: &[Series]| s.iter().map(|s| s.label.clone()).collect::<Vec<_>>();
+        let show_legend = k == 0 || labels(series) != labels(&panels[0].1);
         charts.push(Chart {
             title: None,
             x_label: bottom.then_some(x_axis.label.as_str()),
@@ -314,13 +312,14 @@ pub fn stacked(
                 .collect(),
             zero_lines: false,
             margins: (6, 6),
+            legend: show_legend,
         });
     }
     let n = panels.len() as u32;
     let title_height = 50;
     let height = (title_height + 200 * n).max(600);
     style::write_svg(path, (style::SIZE.0, height), |root| {
-        let body = root.titled(title, (FONT, TITLE_SIZE))?;
+        let body = style::titled(root, title)?;
         let body_height = body.dim_in_pixel().1;
         let panel_height = body_height.saturating_sub(X_LABEL_AREA) / n;
         let mut rest = body;
@@ -467,7 +466,7 @@ pub(crate) mod tests {
             .lines()
             .find(|l| l.starts_with("<polyline") && l.contains(stroke))
             .unwrap();
-        let heights: Vec<i32> = line
+        let heights: Vec<f64> = line
             .split("points=\"")
             .nth(1)
             .unwrap()
@@ -477,7 +476,7 @@ pub(crate) mod tests {
         assert_eq!(heights.len(), 20);
         assert!(heights.iter().all(|&h| h == heights[0]));
         assert!(
-            (250..350).contains(&heights[0]),
+            (250.0..350.0).contains(&heights[0]),
             "line at {} px",
             heights[0]
         );

@@ -1,4 +1,4 @@
-//! Engineering plots written as SVG files.
+//! Engineering plots written as SVG (or PNG) files.
 //!
 //! This module owns the drawing of result plots: time histories and
 //! cross-plots ([`lines`], [`lines_with_markers`]), stacked channels sharing a
@@ -6,7 +6,7 @@
 //! ([`handling_diagram`]), the friction-usage ("g-g") plot ([`gg`]) and
 //! stability maps ([`heat_map`]) and sensitivity rankings
 //! ([`sensitivity_bars`]). It takes plain data in (numbers, labels)
-//! and writes one SVG file per call; it knows nothing of the vehicle model,
+//! and writes one file per call; it knows nothing of the vehicle model,
 //! the results file or the analysis that produced the numbers, except in
 //! [`figures`], which turns a results record into plot data.
 //!
@@ -21,12 +21,15 @@
 //!
 //! # Output format
 //!
-//! SVG only. Text is written as SVG `<text>` elements, so no font library is
-//! needed. PNG is not offered: plotters' bitmap backend can only draw text
-//! through a font engine (`ttf`, which needs font-kit and the system font
-//! configuration, or `ab_glyph`, which needs a font file we would have to ship);
-//! without one its text drawing panics. Convert the SVG with any SVG renderer
-//! when a raster image is needed.
+//! SVG, drawn on a plotters backend of our own (`canvas.rs`): data lines through
+//! floating-point pixel positions (no stair steps), text as SVG `<text>` in
+//! the embedded Liberation Sans (SIL Open Font License 1.1) with
+//! metric-compatible fallbacks, and text widths measured with that font, so
+//! titles wrap to the canvas (at most three lines, then shortened with
+//! "…") and legends get the room they need. A path ending in `.png` gives a
+//! PNG instead: the same SVG rasterised by resvg with the embedded font at
+//! [`PNG_SCALE`] pixels per SVG pixel, so it looks the same on every
+//! machine ([`svg_to_png`] converts any SVG the module wrote).
 //!
 //! # Example
 //!
@@ -46,6 +49,7 @@
 //! # Ok::<(), yawdyn::plot::PlotError>(())
 //! ```
 
+mod canvas;
 pub mod figures;
 mod heat_map;
 mod lines;
@@ -56,6 +60,13 @@ mod vehicle;
 
 use std::path::{Path, PathBuf};
 
+pub use canvas::{PNG_SCALE, shorten, svg_to_png, text_width, wrap_text};
+
+/// Whether `path` names a PNG file (extension `.png`, any case): the plot
+/// functions write PNG to such a path and SVG to any other.
+pub fn is_png_path(path: &Path) -> bool {
+    style::is_png(path)
+}
 pub use heat_map::{HeatMap, heat_map};
 pub use lines::{lines, lines_with_markers, stacked};
 pub use quasi_static::{YawMomentFigure, gg_envelope, yaw_moment_diagram};

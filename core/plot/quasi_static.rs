@@ -136,6 +136,7 @@ pub fn yaw_moment_diagram(
         curves,
         zero_lines: true,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     style::write_svg(path, style::SIZE, |root| draw_chart(root, &chart))
 }
@@ -187,6 +188,7 @@ pub fn gg_envelope(path: &Path, title: &str, curves: &[Series]) -> Result<(), Pl
             .collect(),
         zero_lines: true,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     write_square(path, (760, 700), title, &chart)
 }

@@ -107,7 +107,7 @@ pub fn sensitivity_bars(
 
 /// One panel: bars of every row and their labels.
 fn draw_panel(
-    area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    area: &style::Area<'_>,
     panel: &SensitivityPanel,
     (x0, x1): (f64, f64),
     label_area: u32,

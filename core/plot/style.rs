@@ -6,16 +6,22 @@ use std::path::Path;
 
 use plotters::coord::Shift;
 use plotters::prelude::*;
+use plotters::style::text_anchor;
 
+use super::canvas::{self, CanvasError, SvgCanvas};
 use super::{PlotError, Series};
 
-/// Error type of every drawing call on the SVG backend.
-pub(crate) type DrawError = DrawingAreaErrorKind<std::io::Error>;
+/// Error type of every drawing call on the canvas.
+pub(crate) type DrawError = DrawingAreaErrorKind<CanvasError>;
+
+/// The root drawing area of a plot, or any part of it.
+pub(crate) type Area<'a> = DrawingArea<SvgCanvas<'a>, Shift>;
 
 /// Canvas of the single-chart plots, px (width, height).
 pub(crate) const SIZE: (u32, u32) = (900, 600);
 
-/// Font family of all text; the SVG viewer picks its sans-serif face.
+/// Font family of all text as plotters sees it (the canvas writes the
+/// embedded font's family and its fallbacks into the SVG).
 pub(crate) const FONT: &str = "sans-serif";
 // Font sizes as given to plotters, which writes 1/1.24 of them into the SVG
 // (title 21 px, axis titles 15 px, ticks 13 px, legend 14 px).
@@ -65,14 +71,16 @@ pub(crate) fn colour(index: usize) -> RGBColor {
     PALETTE[index % PALETTE.len()]
 }
 
-/// Renders a drawing into memory and writes it to `path` as one SVG file.
+/// Renders a drawing into memory and writes it to `path`: as PNG when the
+/// file name ends in `.png` (rasterised with the embedded font at
+/// [`canvas::PNG_SCALE`] pixels per SVG pixel), as SVG otherwise.
 pub(crate) fn write_svg<F>(path: &Path, size: (u32, u32), draw: F) -> Result<(), PlotError>
 where
-    F: FnOnce(&DrawingArea<SVGBackend<'_>, Shift>) -> Result<(), DrawError>,
+    F: FnOnce(&Area<'_>) -> Result<(), DrawError>,
 {
     let mut text = String::new();
     {
-        let root = SVGBackend::with_string(&mut text, size).into_drawing_area();
+        let root = SvgCanvas::new(&mut text, size).into_drawing_area();
         let result = root
             .fill(&WHITE)
             .and_then(|()| draw(&root))
@@ -82,10 +90,55 @@ where
             message: e.to_string(),
         })?;
     }
-    std::fs::write(path, text).map_err(|source| PlotError::Io {
+    let bytes = if is_png(path) {
+        canvas::svg_to_png(&text).map_err(|message| PlotError::Draw {
+            path: path.to_path_buf(),
+            message,
+        })?
+    } else {
+        text.into_bytes()
+    };
+    std::fs::write(path, bytes).map_err(|source| PlotError::Io {
         path: path.to_path_buf(),
         source,
     })
+}
+
+/// Whether `path` names a PNG file (extension `.png`, any case).
+pub(crate) fn is_png(path: &Path) -> bool {
+    path.extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("png"))
+}
+
+/// Most lines a title takes before it is shortened.
+const TITLE_LINES: usize = 3;
+
+/// Draws `title` centred at the top of `area`, wrapped to the area's width
+/// less the margins (at most three lines, the last shortened with "…" if
+/// still too long), and returns the area below it.
+pub(crate) fn titled<'a>(area: &Area<'a>, title: &str) -> Result<Area<'a>, DrawError> {
+    let px = TITLE_SIZE as f64 / 1.24;
+    let (width, _) = area.dim_in_pixel();
+    let usable = width.saturating_sub(2 * MARGIN) as f64;
+    let lines = canvas::wrap_text(title, px, usable, TITLE_LINES);
+    let line_height = (1.25 * px).round() as i32;
+    let style = TextStyle::from((FONT, TITLE_SIZE))
+        .color(&BLACK)
+        .pos(text_anchor::Pos::new(
+            text_anchor::HPos::Center,
+            text_anchor::VPos::Top,
+        ));
+    let top = MARGIN as i32 / 2 + 4;
+    for (k, line) in lines.iter().enumerate() {
+        area.draw_text(
+            line,
+            &style,
+            (width as i32 / 2, top + k as i32 * line_height),
+        )?;
+    }
+    let used = top + lines.len() as i32 * line_height + 4;
+    let (_, below) = area.split_vertically(used.max(0));
+    Ok(below)
 }
 
 /// Checks that every series has samples and matching x/y lengths, and that
@@ -293,19 +346,18 @@ pub(crate) fn quietest_corner<'a>(
     positions[best].clone()
 }
 
-/// Size of the legend box in pixels, estimated from its labels the way
-/// plotters lays out text without a font engine (0.7 em per character,
-/// em = size / 1.24²), plus the colour swatch and padding.
+/// Size of the legend box in pixels: the widest label measured in the
+/// embedded font, plus the colour swatch and padding.
 pub(crate) fn legend_size<'a>(labels: impl IntoIterator<Item = &'a str>) -> (u32, u32) {
-    let em = LEGEND_SIZE as f64 / 1.24 / 1.24;
+    let px = LEGEND_SIZE as f64 / 1.24;
     let mut rows = 0u32;
-    let mut widest = 0usize;
+    let mut widest = 0.0_f64;
     for label in labels {
         rows += 1;
-        widest = widest.max(label.chars().count());
+        widest = widest.max(canvas::text_width(label, px));
     }
-    let width = (0.7 * em * widest as f64).ceil() as u32 + 22 + 30;
-    let height = rows * (em.ceil() as u32 + 8) + 12;
+    let width = widest.ceil() as u32 + 22 + 30;
+    let height = rows * (px.ceil() as u32 + 8) + 12;
     (width, height)
 }
 

@@ -1,5 +1,5 @@
 //! Plots particular to vehicle handling: the steady-state handling diagram
-//! (steer angle against lateral acceleration, ISO 4138 style) and the
+//! (road-wheel angle against lateral acceleration, ISO 4138 style) and the
 //! friction-usage plot of longitudinal against lateral acceleration.
 
 use std::path::Path;
@@ -11,10 +11,12 @@ use super::{PlotError, Series};
 /// Up to this many samples the handling diagram marks every sample.
 const MARK_UP_TO: usize = 60;
 
-/// Writes a handling diagram to the SVG file `path`: steer angle (deg) on y
-/// against lateral acceleration (g) on x, from a steady-state test such as a
-/// constant-radius or slow steer-ramp run (ISO 4138). Samples are joined by a
-/// line, with markers when there are few of them (60 or fewer).
+/// Writes a handling diagram to the SVG file `path`: a steer angle (deg) on
+/// y, titled `y_label` (e.g. "road-wheel angle [deg]"), against lateral
+/// acceleration (g) on x, from a steady-state run such as a constant-radius
+/// or slow steer-ramp run (ISO 4138). The samples, labelled "simulation",
+/// are joined by a line, with markers when there are few of them (60 or
+/// fewer).
 ///
 /// `fit`, when given, is `(slope, intercept, ay_max)` of a straight line
 /// fitted to the linear range: slope in deg/g, intercept in deg, and the
@@ -33,6 +35,7 @@ const MARK_UP_TO: usize = 60;
 pub fn handling_diagram(
     path: &Path,
     title: &str,
+    y_label: &str,
     lat_accel_g: &[f64],
     steer_deg: &[f64],
     fit: Option<(f64, f64, f64)>,
@@ -73,7 +76,7 @@ pub fn handling_diagram(
     };
 
     let mut curves = vec![Curve {
-        label: "test data",
+        label: "simulation",
         segments: style::segments(lat_accel_g, steer_deg),
         colour: style::colour(0),
         width: LINE_WIDTH,
@@ -95,13 +98,14 @@ pub fn handling_diagram(
     let chart = Chart {
         title: Some(title),
         x_label: Some("lateral acceleration [g]"),
-        y_label: "steer angle [deg]",
+        y_label,
         x_range: style::padded(x_extent),
         y_range: style::padded(y_extent),
         y_ticks: 10,
         curves,
         zero_lines: false,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     style::write_svg(path, style::SIZE, |root| draw_chart(root, &chart))
 }
@@ -179,6 +183,7 @@ pub fn gg(
         curves,
         zero_lines: true,
         margins: (MARGIN, MARGIN),
+        legend: true,
     };
     write_square(path, (760, 700), title, &chart)
 }
@@ -192,7 +197,7 @@ pub(crate) fn write_square(
     chart: &Chart<'_>,
 ) -> Result<(), PlotError> {
     style::write_svg(path, size, |root| {
-        let body = root.titled(title, (style::FONT, style::TITLE_SIZE))?;
+        let body = style::titled(root, title)?;
         let (w, h) = body.dim_in_pixel();
         // Chart area chosen so that the plot area inside it is square.
         let side_x = MARGIN + (MARGIN + 12) + Y_LABEL_AREA;
@@ -222,6 +227,7 @@ mod tests {
         handling_diagram(
             &path,
             "Constant radius 40 m",
+            "road-wheel angle [deg]",
             &ay,
             &steer,
             Some((2.31, 1.2, 0.4)),
@@ -232,16 +238,26 @@ mod tests {
         for text in [
             "Constant radius 40 m",
             "lateral acceleration [g]",
-            "steer angle [deg]",
+            "road-wheel angle [deg]",
+            "simulation",
             "understeer gradient 2.31 deg/g",
         ] {
             assert!(svg.contains(text), "missing text {text:?}");
         }
         assert_eq!(polylines_in(&svg, style::colour(0)), 1, "data line");
-        assert!(polylines_in(&svg, style::colour(1)) > 3, "dashed fit line");
+        assert_eq!(polylines_in(&svg, style::colour(1)), 1, "fit line");
+        assert!(svg.contains("stroke-dasharray=\"12,6\""), "fit line dashed");
+        assert!(!svg.contains("test data"));
         assert_eq!(svg.matches("<circle").count(), 0, "81 samples: no markers");
 
-        let few = handling_diagram(&path, "Few", &ay[..10], &steer[..10], None);
+        let few = handling_diagram(
+            &path,
+            "Few",
+            "road-wheel angle [deg]",
+            &ay[..10],
+            &steer[..10],
+            None,
+        );
         assert!(few.is_ok());
         let svg = std::fs::read_to_string(&path).unwrap();
         assert_eq!(svg.matches("<circle").count(), 10);
@@ -253,25 +269,56 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("bad.svg");
         assert!(matches!(
-            handling_diagram(&path, "t", &[], &[], None),
+            handling_diagram(&path, "t", "road-wheel angle [deg]", &[], &[], None),
             Err(PlotError::Empty { .. })
         ));
         assert!(matches!(
-            handling_diagram(&path, "t", &[0.1, 0.2], &[1.0], None),
+            handling_diagram(
+                &path,
+                "t",
+                "road-wheel angle [deg]",
+                &[0.1, 0.2],
+                &[1.0],
+                None
+            ),
             Err(PlotError::LengthMismatch { .. })
         ));
         assert!(matches!(
-            handling_diagram(&path, "t", &[f64::NAN], &[1.0], None),
+            handling_diagram(
+                &path,
+                "t",
+                "road-wheel angle [deg]",
+                &[f64::NAN],
+                &[1.0],
+                None
+            ),
             Err(PlotError::NonFinite { .. })
         ));
         assert!(matches!(
-            handling_diagram(&path, "t", &[0.1], &[1.0], Some((f64::NAN, 0.0, 0.5))),
+            handling_diagram(
+                &path,
+                "t",
+                "road-wheel angle [deg]",
+                &[0.1],
+                &[1.0],
+                Some((f64::NAN, 0.0, 0.5))
+            ),
             Err(PlotError::InvalidValue { .. })
         ));
         // NaN samples are skipped, not fatal.
         let ay = [0.1, f64::NAN, 0.3, 0.4];
         let steer = [1.0, 2.0, f64::NAN, 4.0];
-        assert!(handling_diagram(&path, "t", &ay, &steer, Some((2.0, 0.5, 0.4))).is_ok());
+        assert!(
+            handling_diagram(
+                &path,
+                "t",
+                "road-wheel angle [deg]",
+                &ay,
+                &steer,
+                Some((2.0, 0.5, 0.4))
+            )
+            .is_ok()
+        );
     }
 
     #[test]
@@ -325,7 +372,7 @@ mod tests {
             .max_by_key(|l| l.len())
             .unwrap();
         let points = circle.split("points=\"").nth(1).unwrap();
-        let coords: Vec<(i32, i32)> = points
+        let coords: Vec<(f64, f64)> = points
             .split_whitespace()
             .filter_map(|p| {
                 let (x, y) = p.trim_end_matches("\"/>").split_once(',')?;
@@ -333,12 +380,13 @@ mod tests {
             })
             .collect();
         assert!(coords.len() > 300);
-        let width =
-            coords.iter().map(|c| c.0).max().unwrap() - coords.iter().map(|c| c.0).min().unwrap();
-        let height =
-            coords.iter().map(|c| c.1).max().unwrap() - coords.iter().map(|c| c.1).min().unwrap();
+        let extent = |v: Vec<f64>| {
+            v.iter().copied().fold(f64::MIN, f64::max) - v.iter().copied().fold(f64::MAX, f64::min)
+        };
+        let width = extent(coords.iter().map(|c| c.0).collect());
+        let height = extent(coords.iter().map(|c| c.1).collect());
         assert!(
-            (width - height).abs() <= 1,
+            (width - height).abs() <= 1.0,
             "width {width} px, height {height} px"
         );
     }
