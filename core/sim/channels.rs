@@ -121,7 +121,7 @@ const fn wheel(
 
 /// Every output channel, in recording order.
 #[rustfmt::skip]
-pub const CHANNEL_DEFS: [ChannelDef; 48] = [
+pub const CHANNEL_DEFS: [ChannelDef; 47] = [
     body("x", "m", "global x position of the CG", |o| o.state[X]),
     body("y", "m", "global y position of the CG", |o| o.state[Y]),
     body("yaw", "rad", "heading angle (ISO 8855, positive anticlockwise from above)", |o| o.state[YAW]),
@@ -160,7 +160,6 @@ pub const CHANNEL_DEFS: [ChannelDef; 48] = [
     body("friction_brake_torque_front_axle", "N*m", "friction brake torque at the front wheels, both wheels", |o| o.evaluation.powertrain.friction_brake_torque[FRONT]),
     body("friction_brake_torque_rear_axle", "N*m", "friction brake torque at the rear wheels, both wheels", |o| o.evaluation.powertrain.friction_brake_torque[REAR]),
     body("braking_front_share", "1", "front share of the braking force, friction and regenerative (the brake bias when nothing brakes)", |o| o.evaluation.powertrain.braking_front_share),
-    body("available_regen_torque_total", "N*m", "regenerative brake torque the generators could take now at the wheels, both axles", |o| o.evaluation.powertrain.available_regen_torque[FRONT] + o.evaluation.powertrain.available_regen_torque[REAR]),
     wheel("fz", "N", "vertical tyre load", |o, i| o.evaluation.wheels[i].fz),
     wheel("fx", "N", "longitudinal tyre force in wheel axes", |o, i| o.evaluation.wheels[i].fx),
     wheel("fy", "N", "lateral tyre force in wheel axes", |o, i| o.evaluation.wheels[i].fy),
