@@ -388,6 +388,15 @@ fn commands_out_of_range_are_errors_at_the_call() {
             "hold_speed(-1.0);",
             "hold_speed: target speed = -1 is outside its range ≥ 0",
         ),
+        (
+            "harvest_limit(-5.0);",
+            "harvest_limit = -5 is outside its range ≥ 0",
+        ),
+        (
+            "blending(\"regen_first\");",
+            "blending: unknown blending rule `regen_first` (did you mean",
+        ),
+        ("deploy_power(\"lots\");", "deploy_power"),
     ];
     for (call, message) in cases {
         let out = run(&dir, "r.rhai", &format!("{call}\nrun_for(0.1);\n"), &[]);

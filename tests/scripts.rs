@@ -11,7 +11,7 @@ use yawdyn::params::{GRAVITY, Override, load_vehicle, load_vehicle_text};
 use yawdyn::results::{RunRecord, RunStatus, read_hdf5};
 use yawdyn::script::{RunOptions, run_script, run_script_text};
 
-const SHIPPED: [&str; 9] = [
+const SHIPPED: [&str; 11] = [
     "step_steer",
     "steady_state_circle",
     "power_on_exit",
@@ -21,6 +21,8 @@ const SHIPPED: [&str; 9] = [
     "power_off_in_turn",
     "straight_acceleration",
     "double_lane_change",
+    "brake_in_turn_hybrid",
+    "power_on_exit_hybrid",
 ];
 
 /// A script text run as if it lived in scripts/ (so `vehicles/...` resolves).

@@ -15,7 +15,7 @@ use super::units::{
     torque_from_input_power,
 };
 use super::wheels::STANDSTILL_WHEEL_SPEED;
-use crate::params::{DifferentialKind, DriveUnit, FRONT, Machine, REAR, Vehicle};
+use crate::params::{DifferentialKind, DriveUnit, FRONT, Machine, REAR, UnitKind, Vehicle};
 
 /// Drive and brake torques at the wheels of one evaluation.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
@@ -55,6 +55,11 @@ pub struct PowertrainOutput {
     pub state_of_charge: f64,
     /// Rate of change of the stored energy, W (the derivative of `store_energy`).
     pub store_energy_rate: f64,
+    /// Kind of the unit on each axle (`None`: no unit).
+    pub unit_kind: [Option<UnitKind>; 2],
+    /// Front share of the braking force, 1 ([`braking_front_share`](Self::braking_front_share)
+    /// of the vehicle evaluated).
+    pub braking_front_share: f64,
 }
 
 impl PowertrainOutput {
@@ -73,8 +78,41 @@ impl PowertrainOutput {
         self.fuel_mass_flow[FRONT] + self.fuel_mass_flow[REAR]
     }
 
+    /// `f(axle)` summed over the axles whose unit is of `kind`.
+    #[inline]
+    fn sum_of(&self, kind: UnitKind, f: impl Fn(usize) -> f64) -> f64 {
+        let mut sum = 0.0;
+        for k in [FRONT, REAR] {
+            if self.unit_kind[k] == Some(kind) {
+                sum += f(k);
+            }
+        }
+        sum
+    }
+
+    /// Torque at the engines' shafts, summed, N·m (≥ 0: an engine only drives).
+    pub fn engine_torque(&self) -> f64 {
+        self.sum_of(UnitKind::Engine, |k| self.unit_torque[k])
+    }
+
+    /// Shaft power of the engines, T·ω summed, W.
+    pub fn engine_power(&self) -> f64 {
+        self.sum_of(UnitKind::Engine, |k| self.unit_power(k))
+    }
+
+    /// Torque at the motor-generators' shafts, summed, N·m (negative generating).
+    pub fn motor_generator_torque(&self) -> f64 {
+        self.sum_of(UnitKind::MotorGenerator, |k| self.unit_torque[k])
+    }
+
+    /// Mechanical shaft power of the motor-generators, T·ω summed, W
+    /// (negative generating).
+    pub fn motor_generator_mechanical_power(&self) -> f64 {
+        self.sum_of(UnitKind::MotorGenerator, |k| self.unit_power(k))
+    }
+
     /// Shaft power of the units of `kind` on `v`, summed, W.
-    pub fn power_of(&self, v: &Vehicle, kind: crate::params::UnitKind) -> f64 {
+    pub fn power_of(&self, v: &Vehicle, kind: UnitKind) -> f64 {
         [FRONT, REAR]
             .into_iter()
             .filter(|&k| {
@@ -294,6 +332,7 @@ pub fn powertrain(v: &Vehicle, x: &State, c: &Commands) -> (WheelTorques, Powert
     if let Some(s) = &pt.store {
         out.store_energy_rate = energy_rate(s, out.store_terminal_power());
     }
+    out.braking_front_share = out.braking_front_share(v);
     (wheels, out)
 }
 
@@ -304,6 +343,7 @@ fn unit_flows(u: &DriveUnit, k: usize, net: f64, speed: f64, out: &mut Powertrai
     let torque = shaft_torque(u, net);
     out.unit_torque[k] = torque;
     out.unit_speed[k] = speed;
+    out.unit_kind[k] = Some(u.kind());
     match &u.machine {
         Machine::Engine(Some(f)) => out.fuel_mass_flow[k] = fuel_mass_flow(f, speed, torque),
         Machine::Engine(None) => {}

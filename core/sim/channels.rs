@@ -10,8 +10,10 @@
 use std::sync::LazyLock;
 
 use crate::model::{self, Commands, Derived, Evaluation, Pose, State, WHEEL_NAMES};
-use crate::model::{PITCH, ROLL, SLIP_RATIO, VX, VY, WHEEL_SPEED, X, Y, YAW, YAW_RATE};
-use crate::params::Vehicle;
+use crate::model::{
+    FUEL_USED, PITCH, ROLL, SLIP_RATIO, STORE_ENERGY, VX, VY, WHEEL_SPEED, X, Y, YAW, YAW_RATE,
+};
+use crate::params::{FRONT, REAR, Vehicle};
 
 /// Everything one output sample reads: the state, the commands in force, the
 /// model evaluated there and the derived quantities.
@@ -119,7 +121,7 @@ const fn wheel(
 
 /// Every output channel, in recording order.
 #[rustfmt::skip]
-pub const CHANNEL_DEFS: [ChannelDef; 33] = [
+pub const CHANNEL_DEFS: [ChannelDef; 47] = [
     body("x", "m", "global x position of the CG", |o| o.state[X]),
     body("y", "m", "global y position of the CG", |o| o.state[Y]),
     body("yaw", "rad", "heading angle (ISO 8855, positive anticlockwise from above)", |o| o.state[YAW]),
@@ -144,6 +146,20 @@ pub const CHANNEL_DEFS: [ChannelDef; 33] = [
     body("available_torque_front_axle", "N*m", "drive torque the front unit could give now", |o| o.evaluation.axle_available_torque[0]),
     body("available_torque_rear_axle", "N*m", "drive torque the rear unit could give now", |o| o.evaluation.axle_available_torque[1]),
     body("lateral_offset", "m", "lateral displacement of the CG from the initial heading line", |o| o.derived.lateral_offset),
+    body("engine_torque", "N*m", "torque at the engine shaft (engines summed)", |o| o.evaluation.powertrain.engine_torque()),
+    body("engine_power", "W", "engine shaft power, torque times shaft speed (engines summed)", |o| o.evaluation.powertrain.engine_power()),
+    body("fuel_mass_flow", "kg/s", "fuel mass flow of the engines", |o| o.evaluation.powertrain.total_fuel_mass_flow()),
+    body("fuel_used", "kg", "fuel burnt since the start", |o| o.state[FUEL_USED]),
+    body("motor_generator_torque", "N*m", "torque at the motor-generator shaft, negative generating (machines summed)", |o| o.evaluation.powertrain.motor_generator_torque()),
+    body("motor_generator_mechanical_power", "W", "motor-generator shaft power, negative generating (machines summed)", |o| o.evaluation.powertrain.motor_generator_mechanical_power()),
+    body("motor_generator_electrical_power", "W", "electrical power at the motor-generator terminals, positive drawn from the store", |o| o.evaluation.powertrain.store_terminal_power()),
+    body("store_energy", "J", "energy in the store", |o| o.state[STORE_ENERGY]),
+    body("state_of_charge", "1", "state of charge of the store (0 without a store)", |o| o.evaluation.powertrain.state_of_charge),
+    body("regen_brake_torque_front_axle", "N*m", "regenerative brake torque at the front wheels, both wheels", |o| o.evaluation.powertrain.regen_brake_torque[FRONT]),
+    body("regen_brake_torque_rear_axle", "N*m", "regenerative brake torque at the rear wheels, both wheels", |o| o.evaluation.powertrain.regen_brake_torque[REAR]),
+    body("friction_brake_torque_front_axle", "N*m", "friction brake torque at the front wheels, both wheels", |o| o.evaluation.powertrain.friction_brake_torque[FRONT]),
+    body("friction_brake_torque_rear_axle", "N*m", "friction brake torque at the rear wheels, both wheels", |o| o.evaluation.powertrain.friction_brake_torque[REAR]),
+    body("braking_front_share", "1", "front share of the braking force, friction and regenerative (the brake bias when nothing brakes)", |o| o.evaluation.powertrain.braking_front_share),
     wheel("fz", "N", "vertical tyre load", |o, i| o.evaluation.wheels[i].fz),
     wheel("fx", "N", "longitudinal tyre force in wheel axes", |o, i| o.evaluation.wheels[i].fx),
     wheel("fy", "N", "lateral tyre force in wheel axes", |o, i| o.evaluation.wheels[i].fy),

@@ -1,6 +1,8 @@
 //! Inputs: open-loop signals (`steer`, `drive`, `drive_torque`, `brake`,
-//! `front_share`), the drivers (`hold_speed`, `follow_*`, `release_*`), the
-//! per-tick `controller` and the commands it returns.
+//! `front_share`), the hybrid powertrain's (`deploy_power`, `deploy_torque`,
+//! `harvest_limit`, `blending`, `spare_torque_to_other_axle`,
+//! `release_deploy`), the drivers (`hold_speed`, `follow_*`, `release_*`),
+//! the per-tick `controller` and the commands it returns.
 
 use rhai::{Array, Dynamic, Engine, FnPtr, Map};
 
@@ -9,11 +11,14 @@ use super::parts::Parts;
 use super::ranges::{NON_NEGATIVE, UNIT_RANGE, check_signal, check_value, range_of};
 use super::values::{direction, num, numbers, signal_error, signal_of, suggest};
 use crate::manoeuvre::{Path as DrivePath, Signal};
+use crate::model::Deploy;
+use crate::params::BlendingRule;
 use crate::script::runner::{Held, OpenInput, TickState};
 
 /// Registers the input functions.
 pub(crate) fn register(engine: &mut Engine, parts: &Parts) {
     register_signals(engine, parts);
+    register_powertrain(engine, parts);
     register_paths(engine, parts);
     register_controller(engine, parts);
 }
@@ -26,6 +31,9 @@ fn register_signals(engine: &mut Engine, parts: &Parts) {
         ("drive_torque", OpenInput::DriveTorque),
         ("brake", OpenInput::Brake),
         ("front_share", OpenInput::FrontShare),
+        ("deploy_power", OpenInput::DeployPower),
+        ("deploy_torque", OpenInput::DeployTorque),
+        ("harvest_limit", OpenInput::HarvestLimit),
     ];
     for (name, input) in inputs {
         let p = parts.clone();
@@ -47,6 +55,45 @@ fn register_signals(engine: &mut Engine, parts: &Parts) {
     engine.register_fn("release_speed", move || -> Res<()> {
         p.inputs(|i| i.release_speed())
     });
+}
+
+/// The hybrid powertrain's settings that are not signals.
+fn register_powertrain(engine: &mut Engine, parts: &Parts) {
+    let p = parts.clone();
+    engine.register_fn("release_deploy", move || -> Res<()> {
+        p.inputs(|i| i.release_deploy())
+    });
+    let p = parts.clone();
+    engine.register_fn("blending", move |rule: &str| -> Res<()> {
+        let rule = blending_rule(rule, "blending")?;
+        p.inputs(|i| i.set_blending(rule))
+    });
+    let p = parts.clone();
+    engine.register_fn("spare_torque_to_other_axle", move |on: bool| -> Res<()> {
+        p.inputs(|i| i.set_spare_torque(on))
+    });
+}
+
+/// Names of the blending rules, as in the vehicle file's `brakes.blending`.
+const BLENDING_RULES: [(&str, BlendingRule); 2] = [
+    ("balance_kept", BlendingRule::BalanceKept),
+    ("regeneration_first", BlendingRule::RegenerationFirst),
+];
+
+/// The blending rule called `name`; `what` names the command in the error.
+fn blending_rule(name: &str, what: &str) -> Res<BlendingRule> {
+    BLENDING_RULES
+        .iter()
+        .find(|(n, _)| *n == name)
+        .map(|(_, r)| *r)
+        .ok_or_else(|| {
+            let names = BLENDING_RULES.map(|(n, _)| n);
+            script_error(format!(
+                "{what}: unknown blending rule `{name}`{}; rules are {}",
+                suggest(name, &names),
+                names.join(", ")
+            ))
+        })
 }
 
 /// The path follower.
@@ -132,7 +179,7 @@ fn register_controller(engine: &mut Engine, parts: &Parts) {
 }
 
 /// Commands a controller may return.
-const COMMAND_KEYS: [&str; 7] = [
+const COMMAND_KEYS: [&str; 12] = [
     "steer",
     "drive",
     "brake",
@@ -140,6 +187,11 @@ const COMMAND_KEYS: [&str; 7] = [
     "axle_torque",
     "wheel_torque",
     "wheel_brake",
+    "deploy_power",
+    "deploy_torque",
+    "blending",
+    "harvest_limit",
+    "spare_torque_to_other_axle",
 ];
 
 /// Reads the map (or unit) a controller returns at time `t` (s); a command
@@ -173,6 +225,41 @@ pub(crate) fn controller_output(out: Dynamic, t: f64) -> Res<Held> {
                 for b in held.wheel_brake {
                     checked(key, b, NON_NEGATIVE)?;
                 }
+            }
+            "deploy_power" | "deploy_torque" => {
+                if held.deploy.is_some() {
+                    return Err(script_error(
+                        "a controller may return `deploy_power` or `deploy_torque`, not both",
+                    ));
+                }
+                let x = num(v, key)?;
+                held.deploy = Some(if key == "deploy_power" {
+                    Deploy::Power(x)
+                } else {
+                    Deploy::Torque(x)
+                });
+            }
+            "blending" => {
+                let name = v.clone().into_string().map_err(|t| {
+                    script_error(format!(
+                        "controller `blending` must be a string (a rule name), got {t}"
+                    ))
+                })?;
+                held.blending = Some(blending_rule(&name, "controller `blending`")?);
+            }
+            "harvest_limit" => {
+                held.harvest_limit = Some(checked(
+                    key,
+                    num(v, "controller `harvest_limit`")?,
+                    NON_NEGATIVE,
+                )?);
+            }
+            "spare_torque_to_other_axle" => {
+                held.spare_torque_to_other_axle = Some(v.as_bool().map_err(|t| {
+                    script_error(format!(
+                        "controller `spare_torque_to_other_axle` must be true or false, got {t}"
+                    ))
+                })?);
             }
             other => {
                 return Err(script_error(format!(
@@ -239,5 +326,44 @@ mod tests {
             .to_string();
         assert!(err.contains("must have 4 numbers, got 1"), "{err}");
         assert!(controller_output(Dynamic::UNIT, 0.0).is_ok());
+    }
+
+    /// The powertrain keys: a deployment of one kind, a named blending rule,
+    /// a harvest limit ≥ 0, a bool; errors name the key and the value.
+    #[test]
+    fn controller_powertrain_keys_are_read_and_checked() {
+        let mut m = Map::new();
+        m.insert("deploy_power".into(), Dynamic::from_float(5e4));
+        m.insert("blending".into(), Dynamic::from("regeneration_first"));
+        m.insert("harvest_limit".into(), Dynamic::from_float(2e4));
+        m.insert("spare_torque_to_other_axle".into(), Dynamic::from(false));
+        let h = controller_output(Dynamic::from_map(m.clone()), 1.0).unwrap();
+        assert_eq!(h.deploy, Some(Deploy::Power(5e4)));
+        assert_eq!(h.blending, Some(BlendingRule::RegenerationFirst));
+        assert_eq!(h.harvest_limit, Some(2e4));
+        assert_eq!(h.spare_torque_to_other_axle, Some(false));
+        let mut both = m.clone();
+        both.insert("deploy_torque".into(), Dynamic::from_float(100.0));
+        let err = controller_output(Dynamic::from_map(both), 1.0)
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("not both"), "{err}");
+        let mut bad = m.clone();
+        bad.insert("harvest_limit".into(), Dynamic::from_float(-1.0));
+        let err = controller_output(Dynamic::from_map(bad), 3.0)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains(
+                "controller output `harvest_limit` at t = 3 s = -1 is outside its range ≥ 0"
+            ),
+            "{err}"
+        );
+        let mut rule = m;
+        rule.insert("blending".into(), Dynamic::from("regen_first"));
+        let err = controller_output(Dynamic::from_map(rule), 0.0)
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("unknown blending rule `regen_first`"), "{err}");
     }
 }

@@ -21,7 +21,7 @@ use super::errors::{Res, script_error};
 
 /// Range of drive, brake and front share requests, 1.
 pub(crate) const UNIT_RANGE: (f64, f64) = (0.0, 1.0);
-/// Range of a speed target and an extra brake torque (≥ 0).
+/// Range of a speed target, an extra brake torque and a harvest limit (≥ 0).
 pub(crate) const NON_NEGATIVE: (f64, f64) = (0.0, f64::INFINITY);
 /// Most parts and table points in one signal.
 pub(crate) const MAX_SIGNAL_POINTS: usize = 200_000;
@@ -37,7 +37,11 @@ const FINE_CHECK_MAX_POINTS: usize = 1000;
 pub(crate) fn range_of(input: OpenInput) -> Option<(f64, f64)> {
     match input {
         OpenInput::Drive | OpenInput::Brake | OpenInput::FrontShare => Some(UNIT_RANGE),
-        OpenInput::Steer | OpenInput::DriveTorque => None,
+        OpenInput::HarvestLimit => Some(NON_NEGATIVE),
+        OpenInput::Steer
+        | OpenInput::DriveTorque
+        | OpenInput::DeployPower
+        | OpenInput::DeployTorque => None,
     }
 }
 

@@ -16,8 +16,26 @@ pub(crate) fn register(engine: &mut Engine) {
         };
     }
     getters!(
-        time, x, y, yaw, vx, vy, speed, yaw_rate, ax, ay, sideslip, steer
+        time,
+        x,
+        y,
+        yaw,
+        vx,
+        vy,
+        speed,
+        yaw_rate,
+        ax,
+        ay,
+        sideslip,
+        steer,
+        state_of_charge,
+        fuel_used,
+        engine_power,
+        electric_power
     );
+    engine.register_get("available_torque", |s: &mut TickState| {
+        array(&s.available_torque)
+    });
     macro_rules! wheels {
         ($($f:ident),*) => {
             $(

@@ -6,7 +6,8 @@
 
 use super::view::TickState;
 use crate::manoeuvre::{DriverView, PathFollower, Signal, SpeedController};
-use crate::model::Commands;
+use crate::model::{Commands, Deploy, PowertrainCommands};
+use crate::params::BlendingRule;
 use crate::sim::InputSource;
 
 /// Commands computed at a tick and held until the next one (`None` = let the
@@ -27,6 +28,14 @@ pub struct Held {
     pub wheel_torque: [f64; 4],
     /// Extra brake torque per wheel (≥ 0), N·m.
     pub wheel_brake: [f64; 4],
+    /// Electric deployment request (power W or wheel torque N·m).
+    pub deploy: Option<Deploy>,
+    /// Blending of regenerative and friction braking.
+    pub blending: Option<BlendingRule>,
+    /// Largest electrical power the generators may feed into the store, W (≥ 0).
+    pub harvest_limit: Option<f64>,
+    /// Whether an axle's unmet drive torque goes to the other axle.
+    pub spare_torque_to_other_axle: Option<bool>,
 }
 
 impl Held {
@@ -40,6 +49,56 @@ impl Held {
             axle_torque: self.axle_torque.or(lower.axle_torque),
             wheel_torque: self.wheel_torque,
             wheel_brake: self.wheel_brake,
+            deploy: self.deploy.or(lower.deploy),
+            blending: self.blending.or(lower.blending),
+            harvest_limit: self.harvest_limit.or(lower.harvest_limit),
+            spare_torque_to_other_axle: self
+                .spare_torque_to_other_axle
+                .or(lower.spare_torque_to_other_axle),
+        }
+    }
+}
+
+/// Which quantity an open-loop deployment signal requests.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum DeployKind {
+    /// Electrical power at the terminals, W (positive drawn from the store).
+    Power,
+    /// Torque at the wheels of the motor-generator's axle, N·m (positive drives).
+    Torque,
+}
+
+impl DeployKind {
+    /// The request for value `value` of this kind.
+    pub fn request(self, value: f64) -> Deploy {
+        match self {
+            DeployKind::Power => Deploy::Power(value),
+            DeployKind::Torque => Deploy::Torque(value),
+        }
+    }
+}
+
+/// Open-loop settings of a hybrid powertrain (`None`: the vehicle file's).
+#[derive(Debug, Clone, Default)]
+pub struct OpenPowertrain {
+    /// Electric deployment request and its kind.
+    pub deploy: Option<(DeployKind, Signal)>,
+    /// Blending rule.
+    pub blending: Option<BlendingRule>,
+    /// Harvest limit, W (≥ 0).
+    pub harvest_limit: Option<Signal>,
+    /// Spare torque to the other axle.
+    pub spare_torque_to_other_axle: Option<bool>,
+}
+
+impl OpenPowertrain {
+    /// The commands at time `t`, s.
+    fn at(&self, t: f64) -> PowertrainCommands {
+        PowertrainCommands {
+            deploy: self.deploy.as_ref().map(|(k, s)| k.request(s.value(t))),
+            blending: self.blending,
+            harvest_limit: self.harvest_limit.as_ref().map(|s| s.value(t)),
+            spare_torque_to_other_axle: self.spare_torque_to_other_axle,
         }
     }
 }
@@ -58,6 +117,8 @@ pub struct OpenLoop {
     /// Total drive torque at the wheels, N·m, split by the front share
     /// (replaces `drive` while set).
     pub drive_torque: Option<Signal>,
+    /// Hybrid powertrain settings.
+    pub powertrain: OpenPowertrain,
 }
 
 impl Default for OpenLoop {
@@ -68,6 +129,7 @@ impl Default for OpenLoop {
             brake: Signal::Constant(0.0),
             front_share: None,
             drive_torque: None,
+            powertrain: OpenPowertrain::default(),
         }
     }
 }
@@ -85,6 +147,12 @@ pub enum OpenInput {
     Brake,
     /// `front_share(...)`.
     FrontShare,
+    /// `deploy_power(...)`: replaces a `deploy_torque`.
+    DeployPower,
+    /// `deploy_torque(...)`: replaces a `deploy_power`.
+    DeployTorque,
+    /// `harvest_limit(...)`.
+    HarvestLimit,
 }
 
 /// Everything that decides the commands: signals, drivers, held tick outputs.
@@ -144,7 +212,32 @@ impl Inputs {
             OpenInput::DriveTorque => self.open.drive_torque = Some(signal),
             OpenInput::Brake => self.open.brake = signal,
             OpenInput::FrontShare => self.open.front_share = Some(signal),
+            OpenInput::DeployPower => {
+                self.open.powertrain.deploy = Some((DeployKind::Power, signal))
+            }
+            OpenInput::DeployTorque => {
+                self.open.powertrain.deploy = Some((DeployKind::Torque, signal))
+            }
+            OpenInput::HarvestLimit => self.open.powertrain.harvest_limit = Some(signal),
         }
+        self.revision += 1;
+    }
+
+    /// `release_deploy`: no open-loop deployment request.
+    pub fn release_deploy(&mut self) {
+        self.open.powertrain.deploy = None;
+        self.revision += 1;
+    }
+
+    /// `blending(rule)`: the blending rule from now on.
+    pub fn set_blending(&mut self, rule: BlendingRule) {
+        self.open.powertrain.blending = Some(rule);
+        self.revision += 1;
+    }
+
+    /// `spare_torque_to_other_axle(on)`: the spare-torque setting from now on.
+    pub fn set_spare_torque(&mut self, on: bool) {
+        self.open.powertrain.spare_torque_to_other_axle = Some(on);
         self.revision += 1;
     }
 
@@ -272,12 +365,24 @@ impl InputSource for Inputs {
             axle_torque: h.axle_torque.or(open_axle_torque),
             wheel_torque: h.wheel_torque,
             wheel_brake: h.wheel_brake,
-            powertrain: crate::model::PowertrainCommands::default(),
+            powertrain: held_powertrain(h, self.open.powertrain.at(t)),
         }
     }
 
     fn revision(&self) -> Option<u64> {
         Some(self.revision)
+    }
+}
+
+/// The held tick outputs over the open-loop powertrain settings.
+fn held_powertrain(h: &Held, open: PowertrainCommands) -> PowertrainCommands {
+    PowertrainCommands {
+        deploy: h.deploy.or(open.deploy),
+        blending: h.blending.or(open.blending),
+        harvest_limit: h.harvest_limit.or(open.harvest_limit),
+        spare_torque_to_other_axle: h
+            .spare_torque_to_other_axle
+            .or(open.spare_torque_to_other_axle),
     }
 }
 
@@ -341,5 +446,46 @@ mod tests {
         let c = inputs.commands(0.0);
         assert_eq!(c.axle_torque, None);
         assert_eq!(c.drive_request, 0.5);
+    }
+
+    /// Powertrain commands: an open-loop deployment signal is read at time
+    /// t, one kind replaces the other, a controller key wins over the signal
+    /// for its tick, and release ends the request.
+    #[test]
+    fn powertrain_commands_follow_priority() {
+        let mut inputs = Inputs::default();
+        assert_eq!(
+            inputs.commands(0.0).powertrain,
+            PowertrainCommands::default()
+        );
+        inputs.set_open(
+            OpenInput::DeployPower,
+            Signal::ramp(0.0, 1000.0, None).unwrap(),
+        );
+        assert_eq!(
+            inputs.commands(2.0).powertrain.deploy,
+            Some(Deploy::Power(2000.0))
+        );
+        inputs.set_open(OpenInput::DeployTorque, Signal::Constant(300.0));
+        inputs.set_open(OpenInput::HarvestLimit, Signal::Constant(5e3));
+        inputs.set_blending(BlendingRule::RegenerationFirst);
+        inputs.set_spare_torque(false);
+        let p = inputs.commands(2.0).powertrain;
+        assert_eq!(p.deploy, Some(Deploy::Torque(300.0)));
+        assert_eq!(p.harvest_limit, Some(5e3));
+        assert_eq!(p.blending, Some(BlendingRule::RegenerationFirst));
+        assert_eq!(p.spare_torque_to_other_axle, Some(false));
+        inputs.hold_controller(Held {
+            deploy: Some(Deploy::Power(-1e4)),
+            blending: Some(BlendingRule::BalanceKept),
+            ..Default::default()
+        });
+        let p = inputs.commands(2.0).powertrain;
+        assert_eq!(p.deploy, Some(Deploy::Power(-1e4)));
+        assert_eq!(p.blending, Some(BlendingRule::BalanceKept));
+        assert_eq!(p.harvest_limit, Some(5e3));
+        inputs.hold_controller(Held::default());
+        inputs.release_deploy();
+        assert_eq!(inputs.commands(2.0).powertrain.deploy, None);
     }
 }

@@ -31,7 +31,7 @@ mod view;
 #[cfg(test)]
 mod tests;
 
-pub use commands::{Held, Inputs, OpenInput, OpenLoop};
+pub use commands::{DeployKind, Held, Inputs, OpenInput, OpenLoop, OpenPowertrain};
 pub use until::{Conditions, DEFAULT_MAX_PHASE_S, Phase, Until};
 pub use view::{STEADY_QUANTITIES, TickState, ViewIndex};
 

@@ -48,6 +48,18 @@ pub struct TickState {
     pub slip_angle: [f64; 4],
     /// Wheel spin speeds, rad/s.
     pub wheel_speed: [f64; 4],
+    /// State of charge of the energy store, 1 (0 without a store).
+    pub state_of_charge: f64,
+    /// Fuel burnt since the start, kg.
+    pub fuel_used: f64,
+    /// Engine shaft power, W (the `engine_power` channel).
+    pub engine_power: f64,
+    /// Electrical power at the motor-generator terminals, W, positive drawn
+    /// from the store (the `motor_generator_electrical_power` channel).
+    pub electric_power: f64,
+    /// Drive torque available at the wheels per axle [front, rear], N·m
+    /// (`available_torque_front_axle`, `available_torque_rear_axle`).
+    pub available_torque: [f64; 2],
 }
 
 /// Reads one quantity of the view.
@@ -75,7 +87,7 @@ impl TickState {
 }
 
 /// Body quantities of the view and the channel each is read from.
-const BODY: [&str; 11] = [
+const BODY: [&str; 17] = [
     "x",
     "y",
     "yaw",
@@ -87,6 +99,12 @@ const BODY: [&str; 11] = [
     "ay",
     "sideslip",
     "steer_wheel_angle",
+    "state_of_charge",
+    "fuel_used",
+    "engine_power",
+    "motor_generator_electrical_power",
+    "available_torque_front_axle",
+    "available_torque_rear_axle",
 ];
 
 /// Per-wheel quantities of the view, as channel stems (`<stem>_<wheel>`).
@@ -124,8 +142,25 @@ impl ViewIndex {
     /// The view of one tick's outputs.
     pub fn view(&self, o: &Outputs) -> TickState {
         let table = ChannelTable::get();
-        let [x, y, yaw, vx, vy, speed, yaw_rate, ax, ay, sideslip, steer] =
-            self.body.map(|i| table.read(i, o));
+        let [
+            x,
+            y,
+            yaw,
+            vx,
+            vy,
+            speed,
+            yaw_rate,
+            ax,
+            ay,
+            sideslip,
+            steer,
+            state_of_charge,
+            fuel_used,
+            engine_power,
+            electric_power,
+            available_front,
+            available_rear,
+        ] = self.body.map(|i| table.read(i, o));
         let [fz, fx, fy, slip_ratio, slip_angle, wheel_speed] =
             self.wheel.map(|idx| idx.map(|i| table.read(i, o)));
         TickState {
@@ -147,6 +182,11 @@ impl ViewIndex {
             slip_ratio,
             slip_angle,
             wheel_speed,
+            state_of_charge,
+            fuel_used,
+            engine_power,
+            electric_power,
+            available_torque: [available_front, available_rear],
         }
     }
 }
@@ -176,6 +216,18 @@ mod tests {
             o.channel("wheel_speed_front_right")
         );
         assert_eq!(view.quantity("lat_accel"), Some(view.ay));
+        assert_eq!(Some(view.state_of_charge), o.channel("state_of_charge"));
+        assert!(view.state_of_charge > 0.0, "the crossover has a store");
+        assert_eq!(Some(view.fuel_used), o.channel("fuel_used"));
+        assert_eq!(Some(view.engine_power), o.channel("engine_power"));
+        assert_eq!(
+            Some(view.electric_power),
+            o.channel("motor_generator_electrical_power")
+        );
+        assert_eq!(
+            Some(view.available_torque[1]),
+            o.channel("available_torque_rear_axle")
+        );
         assert_eq!(view.quantity("roll"), None);
     }
 }
