@@ -84,6 +84,7 @@ fn spec_of(cases: usize) -> SweepSpec {
         script_path: "synthetic".into(),
         script_text: "synthetic runner of tests/sweep_file.rs".into(),
         vehicle_path: String::new(),
+        vehicle_toml: String::new(),
         base_overrides: vec![],
         grid: Grid::new(vec![
             VaryAxis::parse(&format!("case.number=0:{}:{cases}", cases - 1)).unwrap(),
