@@ -222,6 +222,14 @@ fn show_reads_all_three_kinds() {
     assert_eq!(s["format"], "yawdyn-sweep");
     assert_eq!(s["cases"], 6);
     assert_eq!(s["grid"][1]["unit"], "m/s^2");
+    // The sweep keeps the vehicle file the script names (before overrides).
+    let file = hdf5::File::open(dir.join("results/torque_split_same_torque.h5")).unwrap();
+    let toml: hdf5::types::VarLenUnicode = file
+        .dataset("spec/vehicle_toml")
+        .and_then(|d| d.read_scalar())
+        .unwrap();
+    let shipped = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
+    assert_eq!(toml.as_str(), shipped.unwrap());
     let m = json("results/torque_split_stability.h5");
     assert_eq!(m["format"], "yawdyn-stability-map");
     assert_eq!(m["points"], 6);
