@@ -62,6 +62,22 @@ fn progress_lines_on_a_non_terminal_stderr() {
     assert!(err.contains("sweep: 1/3 cases, "), "{err}");
     assert!(err.contains("sweep: done, 3/3 cases in "), "{err}");
 
+    let out = with_interval(
+        &dir,
+        "0",
+        &[
+            "stability",
+            "hybrid_crossover",
+            "--speed-kph",
+            "80",
+            "--vary",
+            "lat_accel_g=0.1:0.3:3",
+        ],
+    );
+    assert_eq!(out.status.code(), Some(0));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("stability: done, 3/3 points in "), "{err}");
+
     // The default interval (5 s) prints nothing for a short run, and --quiet never does.
     let out = with_interval(&dir, "1000", &["run", "step_steer", "--out", "b.h5"]);
     assert!(!String::from_utf8_lossy(&out.stderr).contains("run: "));

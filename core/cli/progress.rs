@@ -1,4 +1,4 @@
-//! Progress of long commands on standard error: a bar when it is a
+//! Progress of long commands (`run`, `sweep`, `stability --vary`) on standard error: a bar when it is a
 //! terminal, plain lines when it is not (cluster logs, CI), nothing with
 //! `--quiet`.
 //!

@@ -21,6 +21,7 @@ use yawdyn::stability::{
 };
 use yawdyn::table::{Table, fmt_num};
 
+use super::progress::{Progress, Unit};
 use super::{Outcome, bad_input, parse_overrides};
 
 /// Arguments of `yawdyn stability`.
@@ -495,10 +496,22 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
     }
     let started = Instant::now();
     let settings = TrimSettings::default();
+    let progress = Progress::new(
+        "stability",
+        Unit::Items("points"),
+        cases.len() as u64,
+        args.json,
+        "{elapsed_precise} [{bar:40}] {pos}/{len} points, eta {eta}",
+    );
     let results: Vec<Result<StabilityReport, StabilityError>> = cases
         .par_iter()
-        .map(|c| analyse(&c.vehicle, &c.target, &settings))
+        .map(|c| {
+            let result = analyse(&c.vehicle, &c.target, &settings);
+            progress.inc();
+            result
+        })
         .collect();
+    progress.finish();
     let elapsed = started.elapsed().as_secs_f64();
     if let Some(Err(e)) = results
         .iter()
