@@ -92,6 +92,7 @@ fn spec(axes: &[&str], channels: Option<Vec<&str>>) -> SweepSpec {
         script_path: "direct/corner_exit".into(),
         script_text: "direct-simulation runner of tests/sweep.rs".into(),
         vehicle_path: "scripts/vehicles/hybrid_crossover.toml".into(),
+        vehicle_toml: std::fs::read_to_string("scripts/vehicles/hybrid_crossover.toml").unwrap(),
         base_overrides: vec![Override::parse("road.friction=0.9").unwrap()],
         grid: Grid::new(axes.iter().map(|a| VaryAxis::parse(a).unwrap()).collect()).unwrap(),
         channels: channels.map(|c| c.into_iter().map(String::from).collect()),

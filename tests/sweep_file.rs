@@ -84,6 +84,7 @@ fn spec_of(cases: usize) -> SweepSpec {
         script_path: "synthetic".into(),
         script_text: "synthetic runner of tests/sweep_file.rs".into(),
         vehicle_path: String::new(),
+        vehicle_toml: String::new(),
         base_overrides: vec![],
         grid: Grid::new(vec![
             VaryAxis::parse(&format!("case.number=0:{}:{cases}", cases - 1)).unwrap(),
@@ -150,10 +151,10 @@ fn objects_per_file_do_not_grow_with_cases() {
     let (names_large, attrs_large) = objects(&large);
     assert_eq!(names_small, names_large);
     assert_eq!(attrs_small, attrs_large);
-    // spec (group + 7 datasets), summary (group, 9 datasets, 3 groups),
+    // spec (group + 9 datasets), summary (group, 9 datasets, 3 groups),
     // 1 parameter, 2 metrics, 1 criterion (group + 4), time, channel_order,
     // channels (group + 2).
-    assert_eq!(names_large.len(), 34, "{names_large:#?}");
+    assert_eq!(names_large.len(), 36, "{names_large:#?}");
 }
 
 #[test]

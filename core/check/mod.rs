@@ -44,6 +44,8 @@
 //! # Ok::<(), yawdyn::check::CheckError>(())
 //! ```
 
+pub mod junit;
+
 use std::fs;
 use std::path::{Path, PathBuf};
 

@@ -1,4 +1,4 @@
-//! `yawdyn merge OUT.h5 SHARD.h5...`: joins the shard files of one sweep into
+//! `yawdyn merge OUT.h5 SHARD.h5... [--json]`: joins the shard files of one sweep into
 //! the file an unsharded run gives.
 
 use std::path::PathBuf;
@@ -16,6 +16,10 @@ pub struct Args {
     /// Shard files written by `yawdyn sweep --shard K/N`, in any order.
     #[arg(required = true)]
     shards: Vec<PathBuf>,
+    /// Print a JSON summary (`out`, `shards`, `cases`, `status_counts`,
+    /// `wall_time_s`, `writer_cpu_s`) instead of the text line.
+    #[arg(long)]
+    json: bool,
 }
 
 /// Runs `yawdyn merge`. Exit 0 when the merge was written (whatever the
@@ -36,6 +40,31 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         .iter()
         .filter(|&&x| x != CaseStatus::Completed)
         .count();
+    if args.json {
+        let statuses = [
+            CaseStatus::Completed,
+            CaseStatus::CriteriaFailed,
+            CaseStatus::Failed,
+            CaseStatus::Error,
+        ];
+        let counts: serde_json::Map<String, serde_json::Value> = statuses
+            .iter()
+            .map(|&st| {
+                let n = s.status.iter().filter(|&&x| x == st).count();
+                (st.name().to_string(), serde_json::json!(n))
+            })
+            .collect();
+        let value = serde_json::json!({
+            "out": report.out.display().to_string(),
+            "shards": args.shards.iter().map(|p| p.display().to_string()).collect::<Vec<_>>(),
+            "cases": s.len(),
+            "status_counts": counts,
+            "wall_time_s": report.wall_time_s,
+            "writer_cpu_s": report.writer_cpu_s,
+        });
+        println!("{}", serde_json::to_string_pretty(&value)?);
+        return Ok(Outcome::Success);
+    }
     println!(
         "merged {} cases from {} shard files into {} ({} not completed) in {} s \
          (reading and writing {} s CPU)",

@@ -5,9 +5,11 @@
 mod bench;
 mod check;
 mod completions;
+mod export;
 mod gg_envelope;
 mod merge;
 mod plot;
+mod progress;
 mod run;
 mod sensitivity;
 mod show;
@@ -90,6 +92,7 @@ fn kind_of(cause: &(dyn std::error::Error + 'static)) -> Option<ErrorKind> {
         as_kind::<yawdyn::sensitivity::SensitivityError>,
         as_kind::<yawdyn::tyre::inspect::InspectError>,
         as_kind::<yawdyn::assets::AssetError>,
+        as_kind::<yawdyn::files::FileError>,
         |e| e.downcast_ref::<std::io::Error>().map(io_kind),
     ];
     CLASSIFIERS.iter().find_map(|classify| classify(cause))
@@ -157,8 +160,10 @@ enum Command {
     Stability(stability::Args),
     /// Run a manoeuvre script and write the results file (HDF5).
     Run(run::Args),
-    /// Print the summary of a results file.
+    /// Print the summary of a results, sweep or stability-map file.
     Show(show::Args),
+    /// Write a results, sweep or stability-map file as a CSV table (to a file or standard output).
+    Export(export::Args),
     /// Run a script over a grid of vehicle parameters, in parallel, into one sweep file.
     ///
     /// Exits 1 when any case did not complete and pass (the file is written).
@@ -221,6 +226,7 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Stability(args) => stability::run(args),
         Command::Run(args) => run::run(args),
         Command::Show(args) => show::run(args),
+        Command::Export(args) => export::run(args),
         Command::Sweep(args) => sweep::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Completions(args) => completions::run_completions(args),

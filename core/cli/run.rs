@@ -1,9 +1,8 @@
 //! `yawdyn run SCRIPT [--vehicle FILE] [--set key=value]... [--out FILE.h5]
-//! [--csv FILE] [--quiet] [--max-operations N] [--max-wall SECONDS]
+//! [--csv FILE] [--quiet] [--json] [--max-operations N] [--max-wall SECONDS]
 //! [--max-memory MIB]`: run a manoeuvre script, print a summary and write
 //! the results file.
 
-use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
@@ -17,6 +16,7 @@ use yawdyn::script::{
 };
 use yawdyn::table::{Table, fmt_num};
 
+use super::progress::{Progress, Unit};
 use super::{Outcome, bad_input, parse_overrides};
 
 /// The budgets of one run (`run` and each case of `sweep`).
@@ -80,6 +80,10 @@ pub struct Args {
     /// No progress bar and no summary (errors are still printed).
     #[arg(long)]
     quiet: bool,
+    /// Print the summary as JSON (as `yawdyn show --json`, with
+    /// `results_file`, `csv_file`, `wall_time_s` and `passed`); no progress.
+    #[arg(long)]
+    json: bool,
     #[command(flatten)]
     budgets: BudgetArgs,
 }
@@ -98,21 +102,29 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     if let Some(csv) = &args.csv {
         results::check_output_path(csv)?;
     }
-    let bar = progress_bar(args.quiet);
+    let hidden = args.quiet || args.json;
+    let progress = std::rc::Rc::new(Progress::new(
+        "run",
+        Unit::SimulatedMs,
+        0,
+        hidden,
+        "{bar:40} {msg} sim {pos} ms / {len} ms, {elapsed} wall",
+    ));
+    let shown = progress.clone();
     let options = RunOptions {
         vehicle: args.vehicle.clone(),
         overrides,
-        progress: bar.clone().map(|bar| {
+        progress: (!hidden).then(|| {
             Box::new(move |t: f64, end: f64| {
                 let end_ms = if end.is_finite() {
                     (end * 1000.0) as u64
                 } else {
                     0
                 };
-                if end_ms > bar.length().unwrap_or(0) {
-                    bar.set_length(end_ms);
+                if end_ms > shown.total() {
+                    shown.set_total(end_ms);
                 }
-                bar.set_position((t * 1000.0) as u64);
+                shown.set_position((t * 1000.0) as u64);
             }) as Box<dyn Fn(f64, f64)>
         }),
         limits,
@@ -120,9 +132,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     let started = Instant::now();
     let result = run_script(&args.script, &options);
     let wall = started.elapsed().as_secs_f64();
-    if let Some(bar) = &bar {
-        bar.finish_and_clear();
-    }
+    progress.finish();
     let record = result?;
     results::write_hdf5(&record, &out)
         .with_context(|| format!("cannot write results file {}", out.display()))?;
@@ -130,7 +140,14 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         results::write_csv(&record, csv)
             .with_context(|| format!("cannot write CSV file {}", csv.display()))?;
     }
-    if !args.quiet {
+    if args.json {
+        let mut value = results::summary_json(&record);
+        value["results_file"] = serde_json::json!(out.display().to_string());
+        value["csv_file"] = serde_json::json!(args.csv.as_ref().map(|c| c.display().to_string()));
+        value["wall_time_s"] = serde_json::json!(wall);
+        value["passed"] = serde_json::json!(record.passed());
+        println!("{}", serde_json::to_string_pretty(&value)?);
+    } else if !args.quiet {
         print!("{}", summary(&record, wall, &out));
     }
     if let RunStatus::Failed { message, time_s } = &record.status {
@@ -154,20 +171,6 @@ fn default_out(script: &Path) -> PathBuf {
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_else(|| "run".into());
     Path::new("results").join(format!("{stem}.h5"))
-}
-
-/// A progress bar on stderr, or none when quiet or stderr is not a terminal.
-fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
-    if quiet || !std::io::stderr().is_terminal() {
-        return None;
-    }
-    let bar = indicatif::ProgressBar::new(0);
-    let style = indicatif::ProgressStyle::with_template(
-        "{bar:40} {msg} sim {pos} ms / {len} ms, {elapsed} wall",
-    )
-    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar());
-    bar.set_style(style);
-    Some(bar)
 }
 
 /// The printed summary: status, durations, metrics and criteria.

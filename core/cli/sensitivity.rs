@@ -22,7 +22,7 @@ use yawdyn::sweep::{CaseList, Shard, SweepOptions, run_cases};
 use yawdyn::table::{Table, fmt_num};
 
 use super::run::BudgetArgs;
-use super::sweep::{progress_bar, script_case_runner};
+use super::sweep::{case_progress, script_case_runner};
 use super::{Outcome, bad_input, parse_overrides};
 
 /// Arguments of `yawdyn sensitivity`.
@@ -391,8 +391,8 @@ fn base_metric(base: &RunRecord, name: &str) -> Result<(String, String, f64), Se
 /// Runs every case of `plan` on the sweep engine and returns their
 /// outcomes in case order.
 fn run_plan(config: &Config, plan: &Plan) -> anyhow::Result<Vec<CaseOutcome>> {
-    let bar = progress_bar(plan.len(), config.quiet);
-    let tick = || bar.inc(1);
+    let progress = case_progress("sensitivity", plan.len(), config.quiet);
+    let tick = || progress.inc();
     let options = SweepOptions {
         jobs: config.jobs,
         shard: Shard::WHOLE,
@@ -419,7 +419,7 @@ fn run_plan(config: &Config, plan: &Plan) -> anyhow::Result<Vec<CaseOutcome>> {
             run_cases(plan, 0..plan.len(), &options, &runner, &mut collect)?;
         }
     }
-    bar.finish_and_clear();
+    progress.finish();
     Ok(outcomes)
 }
 

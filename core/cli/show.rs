@@ -1,18 +1,20 @@
-//! `yawdyn show FILE [--json]`: print the summary of a results file.
+//! `yawdyn show FILE [--json]`: print the summary of a results, sweep or
+//! stability-map file (the kind is read from the file's root `format`
+//! attribute).
 
 use std::path::PathBuf;
 
 use anyhow::Context;
-use yawdyn::results::{read_hdf5, summary_json, summary_text};
+use yawdyn::files::{show_json, show_text};
 
 use super::{Outcome, bad_input};
 
 /// Arguments of `yawdyn show`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Results file (HDF5) written by `yawdyn run`.
+    /// Results, sweep or stability-map file (HDF5) written by yawdyn.
     file: PathBuf,
-    /// Print JSON (status, provenance, metrics, criteria) instead of text.
+    /// Print JSON instead of text (key `format` names the kind of file).
     #[arg(long)]
     json: bool,
 }
@@ -22,15 +24,14 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     if !args.file.exists() {
         return Err(bad_input(format!("no such file: {}", args.file.display())));
     }
-    let record = read_hdf5(&args.file)
-        .with_context(|| format!("cannot read results file {}", args.file.display()))?;
+    let context = || format!("cannot read {}", args.file.display());
     let text = if args.json {
         format!(
             "{}\n",
-            serde_json::to_string_pretty(&summary_json(&record))?
+            serde_json::to_string_pretty(&show_json(&args.file).with_context(context)?)?
         )
     } else {
-        summary_text(&record)
+        show_text(&args.file).with_context(context)?
     };
     // A closed pipe (`yawdyn show f.h5 | head`) is not an error.
     use std::io::Write;

@@ -14,11 +14,13 @@ use yawdyn::error::{Classify, ErrorKind};
 use yawdyn::model::WHEEL_NAMES;
 use yawdyn::params::{GRAVITY, Override, Vehicle, load_vehicle_text};
 use yawdyn::stability::{
-    MapAxis, MapPoint, StabilityError, StabilityMap, StabilityReport, TrimSettings, TrimTarget,
-    UNSTABLE_REAL_PART, analyse, write_map,
+    CONDITION_ORDER, FixedCondition, MapAxis, MapPoint, MapProvenance, StabilityError,
+    StabilityMap, StabilityReport, TrimSettings, TrimTarget, UNSTABLE_REAL_PART, analyse,
+    write_map,
 };
 use yawdyn::table::{Table, fmt_num};
 
+use super::progress::{Progress, Unit};
 use super::{Outcome, bad_input, parse_overrides};
 
 /// Arguments of `yawdyn stability`.
@@ -124,12 +126,14 @@ fn parse_vary(spec: &str) -> anyhow::Result<Vary> {
     })
 }
 
+/// Unit of a `--vary` key: that of the operating-point quantity, or of the
+/// vehicle parameter ([`yawdyn::params::parameter_unit`]); empty when unknown.
 fn unit_of(key: &str) -> &'static str {
     match key {
         "speed_kph" => "km/h",
         "lat_accel_g" | "long_accel_g" => "g",
         "front_share" => "1",
-        _ => "",
+        path => yawdyn::params::parameter_unit(path).unwrap_or_default(),
     }
 }
 
@@ -509,10 +513,22 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
     }
     let started = Instant::now();
     let settings = TrimSettings::default();
+    let progress = Progress::new(
+        "stability",
+        Unit::Items("points"),
+        cases.len() as u64,
+        args.json,
+        "{elapsed_precise} [{bar:40}] {pos}/{len} points, eta {eta}",
+    );
     let results: Vec<Result<StabilityReport, StabilityError>> = cases
         .par_iter()
-        .map(|c| analyse(&c.vehicle, &c.target, &settings))
+        .map(|c| {
+            let result = analyse(&c.vehicle, &c.target, &settings);
+            progress.inc();
+            result
+        })
         .collect();
+    progress.finish();
     let elapsed = started.elapsed().as_secs_f64();
     if let Some(Err(e)) = results
         .iter()
@@ -539,7 +555,41 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
         .filter_map(|k| describe(k))
         .chain(args.sets.iter().map(|s| format!("set {s}")))
         .collect();
+    // The operating-point quantities not varied, as numbers.
+    let value_of = |key: &str| match key {
+        "speed_kph" => point.speed_kph,
+        "lat_accel_g" => point.lat_accel_g,
+        "long_accel_g" => Some(point.long_accel_g),
+        _ => Some(
+            point
+                .front_share
+                .unwrap_or(cases[0].vehicle.powertrain.front_share),
+        ),
+    };
+    let fixed_numbers = CONDITION_ORDER
+        .iter()
+        .filter(|k| {
+            vary.iter()
+                .all(|a| a.key != **k && !(**k == "front_share" && a.key == "drive.front_share"))
+        })
+        .filter_map(|k| {
+            value_of(k).map(|value| FixedCondition {
+                key: k.to_string(),
+                value,
+                unit: unit_of(k).to_string(),
+            })
+        })
+        .collect();
+    let provenance = MapProvenance {
+        yawdyn_version: yawdyn::sweep::yawdyn_version(),
+        created_utc: yawdyn::sweep::utc_now(),
+        vehicle_path: inputs.path.display().to_string(),
+        vehicle_toml: inputs.text.to_string(),
+        overrides: inputs.overrides.iter().map(Override::to_text).collect(),
+        fixed: fixed_numbers,
+    };
     let map = StabilityMap {
+        provenance,
         vehicle_name: cases[0].vehicle.name.clone(),
         description: fixed.join("; "),
         axes: vary

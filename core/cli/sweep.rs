@@ -2,22 +2,23 @@
 //! full-factorial grid of vehicle parameters, in parallel, into one sweep
 //! file (layout: [`yawdyn::sweep`]).
 
-use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
 use anyhow::Context;
-use indicatif::{ProgressBar, ProgressStyle};
+use serde_json::{Value, json};
 use yawdyn::assets::{resolve_script, resolve_vehicle};
 use yawdyn::params::{Override, ParamError, read_text_file};
 use yawdyn::results::RunRecord;
 use yawdyn::script::{
-    Limits, MAX_SCRIPT_FILE_BYTES, RunOptions, ScriptError, check_manoeuvre_keys, run_script,
+    Limits, MANOEUVRE_PREFIX, MAX_SCRIPT_FILE_BYTES, RunOptions, ScriptError, check_manoeuvre_keys,
+    manoeuvre_parameter_units, run_script,
 };
 use yawdyn::sweep::{
     CaseStatus, Grid, Shard, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
 };
 use yawdyn::table::{Table, fmt_num};
 
+use super::progress::{Progress, Unit};
 use super::run::BudgetArgs;
 use super::{Outcome, bad_input, parse_overrides};
 
@@ -58,9 +59,13 @@ pub struct Args {
     /// Channels to store per case, comma-separated (default: all).
     #[arg(long, value_delimiter = ',', value_name = "A,B,...")]
     channels: Option<Vec<String>>,
-    /// No progress bar.
+    /// No progress bar or progress lines.
     #[arg(long)]
     quiet: bool,
+    /// Print a JSON summary (status counts, grid with units, metric ranges,
+    /// output file, times) instead of the table; no progress.
+    #[arg(long)]
+    json: bool,
     /// Budgets of each case.
     #[command(flatten)]
     budgets: BudgetArgs,
@@ -75,6 +80,7 @@ struct Config {
     jobs: usize,
     out: PathBuf,
     quiet: bool,
+    json: bool,
     limits: Limits,
 }
 
@@ -82,7 +88,7 @@ struct Config {
 pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     args.script = resolve_script(&args.script)?;
     args.vehicle = args.vehicle.map(|v| resolve_vehicle(&v)).transpose()?;
-    let config = check(args)?;
+    let mut config = check(args)?;
     // Every manoeuvre.* key is a parameter the script reads (bad input before any case).
     let keys = config.spec.grid.keys();
     let sets = config.spec.base_overrides.iter().map(|o| o.path.as_str());
@@ -93,20 +99,41 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         keys.iter().map(String::as_str).chain(sets),
     )?;
     yawdyn::results::check_output_path(&config.out)?;
-    preflight(&config)?;
+    // Units of the manoeuvre parameters, from `param(name, default, unit)`.
+    let units = manoeuvre_parameter_units(text, &config.script)?;
+    for axis in &mut config.spec.grid.axes {
+        if let Some(name) = axis.key.strip_prefix(MANOEUVRE_PREFIX)
+            && let Some((_, unit)) = units.iter().find(|(n, _)| n == name)
+        {
+            axis.unit = unit.clone();
+        }
+    }
+    let vehicle = preflight(&config)?;
+    // The vehicle file the cases start from: --vehicle, else the script's own.
+    if let Some(path) = config.vehicle.clone().or(vehicle) {
+        config.spec.vehicle_toml = yawdyn::params::read_vehicle_file(&path)
+            .with_context(|| format!("cannot read vehicle file {}", path.display()))?;
+    }
     let runner = script_case_runner(&config.script, config.vehicle.as_deref(), config.limits);
 
     let range = config.shard.range(config.spec.grid.len());
-    let bar = progress_bar(range.len(), config.quiet);
-    let tick = || bar.inc(1);
+    let progress = case_progress("sweep", range.len(), config.quiet || config.json);
+    let tick = || progress.inc();
     let options = SweepOptions {
         jobs: config.jobs,
         shard: config.shard,
         progress: Some(&tick),
     };
     let report = run_sweep(&config.spec, &options, &runner, &config.out)?;
-    bar.finish_and_clear();
-    print_report(&config, &report);
+    progress.finish();
+    if config.json {
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&report_json(&config, &report))?
+        );
+    } else {
+        print_report(&config, &report);
+    }
     Ok(if report.failed() == 0 {
         Outcome::Success
     } else {
@@ -114,19 +141,16 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     })
 }
 
-/// The progress bar of commands that run cases on the sweep engine: hidden
-/// with `quiet` or when standard error is not a terminal.
-pub(super) fn progress_bar(cases: usize, quiet: bool) -> ProgressBar {
-    if quiet || !std::io::stderr().is_terminal() {
-        return ProgressBar::hidden();
-    }
-    let bar = ProgressBar::new(cases as u64);
-    if let Ok(style) =
-        ProgressStyle::with_template("{elapsed_precise} [{bar:40}] {pos}/{len} cases, eta {eta}")
-    {
-        bar.set_style(style.progress_chars("=> "));
-    }
-    bar
+/// The progress of commands that run cases on the sweep engine: hidden with
+/// `quiet`, a bar on a terminal, plain lines otherwise.
+pub(super) fn case_progress(label: &'static str, cases: usize, quiet: bool) -> Progress {
+    Progress::new(
+        label,
+        Unit::Items("cases"),
+        cases as u64,
+        quiet,
+        "{elapsed_precise} [{bar:40}] {pos}/{len} cases, eta {eta}",
+    )
 }
 
 /// Validates the raw options into a [`Config`] (bad input names the option).
@@ -190,6 +214,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
             .vehicle
             .as_ref()
             .map_or_else(String::new, |v| v.display().to_string()),
+        vehicle_toml: String::new(),
         base_overrides,
         grid,
         channels,
@@ -202,6 +227,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
         jobs,
         out,
         quiet: args.quiet,
+        json: args.json,
         limits,
     })
 }
@@ -240,11 +266,12 @@ fn with_causes(e: &dyn std::error::Error) -> String {
 /// they give exit code 2 and no file: the script must parse and run, and the
 /// varied and `--set` keys must exist. Runs the first case of the shard once
 /// on this thread (its result is discarded; the sweep runs it again) and
-/// checks the channel selection against its output.
-fn preflight(config: &Config) -> anyhow::Result<()> {
+/// checks the channel selection against its output. Returns the vehicle
+/// file that case used, when it ran.
+fn preflight(config: &Config) -> anyhow::Result<Option<PathBuf>> {
     let range = config.shard.range(config.spec.grid.len());
     if range.is_empty() {
-        return Ok(());
+        return Ok(None);
     }
     let mut overrides = config.spec.base_overrides.clone();
     overrides.extend(config.spec.grid.overrides(range.start));
@@ -268,7 +295,8 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
                     }
                 }
             }
-            Ok(())
+            let vehicle = PathBuf::from(&record.provenance.vehicle_path);
+            Ok(vehicle.is_file().then_some(vehicle))
         }
         Err(
             e @ (ScriptError::Read { .. }
@@ -298,7 +326,7 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
             Err(bad_input(lines.join("\n")))
         }
         // Anything else may depend on the case's values: the sweep records it per case.
-        Err(_) => Ok(()),
+        Err(_) => Ok(None),
     }
 }
 
@@ -307,6 +335,61 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
 fn is_key_problem(config: &Config, issue: &yawdyn::params::ParamIssue) -> bool {
     issue.message.contains("unknown key")
         || (issue.message.contains("wrong type") && config.spec.grid.keys().contains(&issue.path))
+}
+
+/// The JSON summary of a sweep (`--json`): `out`, `cases`, `shard` (`[K,
+/// N]`), `case_total`, `jobs`, `status_counts`, `failed` (cases not
+/// completed and passed), `grid` (`{key, unit, start, stop, count}`),
+/// `metrics` (`{name, units, min, max, cases}`), `wall_time_s`,
+/// `writer_cpu_s`. Non-finite numbers are null.
+fn report_json(config: &Config, report: &SweepReport) -> Value {
+    let number = |x: f64| serde_json::Number::from_f64(x).map_or(Value::Null, Value::Number);
+    let s = &report.summary;
+    let count = |status: CaseStatus| s.status.iter().filter(|&&x| x == status).count();
+    let statuses = [
+        CaseStatus::Completed,
+        CaseStatus::CriteriaFailed,
+        CaseStatus::Failed,
+        CaseStatus::Error,
+    ];
+    let counts: serde_json::Map<String, Value> = statuses
+        .iter()
+        .map(|&st| (st.name().to_string(), json!(count(st))))
+        .collect();
+    let metrics: Vec<Value> = s
+        .metrics
+        .iter()
+        .map(|m| {
+            let finite = m.values.iter().copied().filter(|v| v.is_finite());
+            let lo = finite.clone().fold(f64::NAN, f64::min);
+            let hi = finite.clone().fold(f64::NAN, f64::max);
+            json!({"name": m.name, "units": m.unit, "min": number(lo), "max": number(hi),
+                   "cases": finite.count()})
+        })
+        .collect();
+    let grid: Vec<Value> = config
+        .spec
+        .grid
+        .axes
+        .iter()
+        .map(|a| {
+            json!({"key": a.key, "unit": a.unit, "start": number(a.start),
+                   "stop": number(a.stop), "count": a.count})
+        })
+        .collect();
+    json!({
+        "out": report.out.display().to_string(),
+        "cases": s.len(),
+        "shard": [config.shard.index, config.shard.count],
+        "case_total": config.spec.grid.len(),
+        "jobs": config.jobs,
+        "status_counts": counts,
+        "failed": report.failed(),
+        "grid": grid,
+        "metrics": metrics,
+        "wall_time_s": number(report.wall_time_s),
+        "writer_cpu_s": number(report.writer_cpu_s),
+    })
 }
 
 /// Prints the summary table (parameters × metrics × status) and the totals.

@@ -32,6 +32,7 @@ mod steering;
 mod store;
 mod tables;
 mod tyres;
+mod units;
 mod vehicle;
 
 pub use aero::{Aero, AeroFile};
@@ -49,4 +50,5 @@ pub use steering::{Steering, SteeringFile};
 pub use store::{EnergyStore, StoreFile};
 pub use tables::{Curve, Efficiency, EfficiencyMapFile, Map, MapSlice, RPM, TorqueCurveFile};
 pub use tyres::{AxlePair, AxleTyre, TyreFile};
+pub use units::parameter_unit;
 pub use vehicle::{GRAVITY, Vehicle, VehicleFile};

@@ -66,7 +66,7 @@ pub use atomic::check_output_path;
 pub(crate) use atomic::write_atomically;
 pub use csv::write_csv;
 pub use error::{Access, ResultsError};
-pub use h5::{read_hdf5, write_hdf5};
+pub use h5::{read_format, read_hdf5, write_hdf5};
 pub use record::{Channel, Criterion, Metric, Provenance, RunRecord, RunStatus};
 pub use summary::{summary_json, summary_text};
 

@@ -70,7 +70,8 @@ impl RunLog {
         self.notes.push((name.to_string(), text.to_string()));
     }
 
-    /// Records a metric; a name recorded before is refused.
+    /// Records a metric; a name recorded before is refused. The unit is
+    /// stored in the ASCII spelling of [`crate::units::ascii`] (`m/s²` → `m/s^2`).
     pub fn metric(&mut self, name: &str, value: f64, unit: &str) -> Result<(), LogError> {
         if self.metrics.iter().any(|m| m.name == name) {
             return Err(LogError::DuplicateMetric(name.to_string()));
@@ -78,7 +79,7 @@ impl RunLog {
         self.metrics.push(Metric {
             name: name.to_string(),
             value,
-            unit: unit.to_string(),
+            unit: crate::units::ascii(unit),
         });
         Ok(())
     }

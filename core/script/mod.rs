@@ -53,7 +53,7 @@ mod run;
 pub mod runner;
 pub mod setup;
 
-pub use api::{check_manoeuvre_keys, manoeuvre_parameters};
+pub use api::{check_manoeuvre_keys, manoeuvre_parameter_units, manoeuvre_parameters};
 pub use budget::{
     Budget, DEFAULT_MAX_OPERATIONS, DEFAULT_MAX_SAMPLE_BYTES, DEFAULT_MAX_WALL_S, Exceeded, Limits,
     MAX_SCRIPT_BYTES,

@@ -1,15 +1,32 @@
 //! Stability maps: the analysis over a grid of one or two varied quantities,
 //! and their HDF5 file.
 //!
-//! File layout (our own, format "yawdyn-stability-map", version 1):
-//! - root attributes `format`, `format_version`, `vehicle_name`, `description`;
+//! File layout (our own, format "yawdyn-stability-map", version 2; also in
+//! `docs/file-formats.md`):
+//! - root attributes `format`, `format_version`, `vehicle_name`,
+//!   `description` (the fixed conditions as text), `yawdyn_version`,
+//!   `created_utc`, `vehicle_path`;
 //! - `/axis_keys` (1 or 2 strings), `/axis_units` (strings), and one dataset
-//!   `/axis_0`, `/axis_1` of grid values per axis;
+//!   `/axis_0`, `/axis_1` of grid values per axis, with attributes `key`,
+//!   `units` and `dimension` (the grid dimension it indexes: 1 for `axis_0`,
+//!   0 for `axis_1`);
 //! - per point, datasets of shape [n1, n0] (n1 = 1 with one axis), row j
 //!   along axis 1, column i along axis 0: `trim_found` (u8), `stable` (u8),
 //!   `yaw_damping_ratio` (1), `yaw_frequency_hz` (Hz), `max_real_part`
-//!   (1/s), `lat_accel` (m/s², the trimmed or largest reachable ay).
-//!   Values with no meaning (no trim) are NaN.
+//!   (1/s), `lat_accel` (m/s^2, the trimmed or largest reachable ay).
+//!   Values with no meaning (no trim) are NaN. Each has the attributes
+//!   `units` and `dimensions` (text [2]: the axis datasets of its dimensions
+//!   in storage order, `["axis_1", "axis_0"]`; `["", "axis_0"]` with one
+//!   axis), in place of HDF5 dimension scales (which need the HDF5
+//!   high-level library);
+//! - `/provenance/vehicle_toml` (the vehicle file's text, before overrides),
+//!   `/provenance/overrides` (text [o], the `--set` overrides in order);
+//! - `/fixed_conditions/<key>`: one f64 scalar per condition held fixed over
+//!   the map (`speed_kph`, `lat_accel_g`, `long_accel_g`, `front_share`),
+//!   attribute `units`.
+//!
+//! Version 1 files (no provenance, no fixed conditions, no `dimensions`)
+//! are still read.
 
 use std::path::{Path, PathBuf};
 use std::str::FromStr;
@@ -21,8 +38,36 @@ use super::{StabilityError, StabilityReport};
 
 /// Root `format` attribute of a map file.
 pub const MAP_FORMAT: &str = "yawdyn-stability-map";
-/// Layout version written.
-pub const MAP_FORMAT_VERSION: i64 = 1;
+/// Layout version written (version 1 files are read too).
+pub const MAP_FORMAT_VERSION: i64 = 2;
+
+/// A condition held fixed over a map, as a number.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FixedCondition {
+    /// Key, as for `--vary` (`speed_kph`, `lat_accel_g`, ...).
+    pub key: String,
+    /// Value, in `unit`.
+    pub value: f64,
+    /// Unit, ASCII (`km/h`, `g`, `1`).
+    pub unit: String,
+}
+
+/// Where a map came from.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct MapProvenance {
+    /// yawdyn version that wrote the map.
+    pub yawdyn_version: String,
+    /// Creation time, ISO 8601 UTC.
+    pub created_utc: String,
+    /// Vehicle file as given.
+    pub vehicle_path: String,
+    /// Text of the vehicle file, before overrides.
+    pub vehicle_toml: String,
+    /// `--set` overrides, `key=value`, in order.
+    pub overrides: Vec<String>,
+    /// The operating-point quantities not varied.
+    pub fixed: Vec<FixedCondition>,
+}
 
 /// One varied quantity.
 #[derive(Debug, Clone, PartialEq)]
@@ -93,6 +138,8 @@ pub struct StabilityMap {
     pub axes: Vec<MapAxis>,
     /// Points, `points[j * axes[0].values.len() + i]`.
     pub points: Vec<MapPoint>,
+    /// Version, date, vehicle file, overrides, fixed conditions.
+    pub provenance: MapProvenance,
 }
 
 impl StabilityMap {
@@ -185,10 +232,7 @@ impl Ctx<'_> {
             .map_err(self.h5(format!("reading attribute {name}")))
     }
     fn strs(&self, g: &Group, name: &str, items: &[&str]) -> Result<(), MapError> {
-        let v = items
-            .iter()
-            .map(|s| self.text(s))
-            .collect::<Result<Vec<_>, _>>()?;
+        let v = self.text_list(items)?;
         g.new_dataset_builder()
             .with_data(&v[..])
             .create(name)
@@ -208,6 +252,7 @@ impl Ctx<'_> {
         shape: [usize; 2],
         data: &[T],
         unit: &str,
+        dimensions: &[&str],
     ) -> Result<(), MapError> {
         let ds = g
             .new_dataset::<T>()
@@ -215,6 +260,24 @@ impl Ctx<'_> {
             .create(name)
             .map_err(self.h5(format!("creating dataset {name}")))?;
         ds.write_raw(data)
+            .map_err(self.h5(format!("writing dataset {name}")))?;
+        self.attr_str(&ds, "units", unit)?;
+        let dims = self.text_list(dimensions)?;
+        ds.new_attr::<VarLenUnicode>()
+            .shape(dims.len())
+            .create("dimensions")
+            .and_then(|a| a.write_raw(&dims))
+            .map_err(self.h5(format!("writing attribute dimensions of {name}")))
+    }
+    fn text_list(&self, items: &[&str]) -> Result<Vec<VarLenUnicode>, MapError> {
+        items.iter().map(|s| self.text(s)).collect()
+    }
+    fn scalar(&self, g: &Group, name: &str, value: f64, unit: &str) -> Result<(), MapError> {
+        let ds = g
+            .new_dataset::<f64>()
+            .shape(())
+            .create(name)
+            .and_then(|d| d.write_scalar(&value).map(|()| d))
             .map_err(self.h5(format!("writing dataset {name}")))?;
         self.attr_str(&ds, "units", unit)
     }
@@ -273,6 +336,27 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
             .map_err(ctx.h5("writing attribute format_version"))?;
         ctx.attr_str(root, "vehicle_name", &map.vehicle_name)?;
         ctx.attr_str(root, "description", &map.description)?;
+        let prov = &map.provenance;
+        ctx.attr_str(root, "yawdyn_version", &prov.yawdyn_version)?;
+        ctx.attr_str(root, "created_utc", &prov.created_utc)?;
+        ctx.attr_str(root, "vehicle_path", &prov.vehicle_path)?;
+        let pg = root
+            .create_group("provenance")
+            .map_err(ctx.h5("creating group provenance"))?;
+        let toml = ctx.text(&prov.vehicle_toml)?;
+        pg.new_dataset::<VarLenUnicode>()
+            .shape(())
+            .create("vehicle_toml")
+            .and_then(|d| d.write_scalar(&toml))
+            .map_err(ctx.h5("writing dataset vehicle_toml"))?;
+        let overrides: Vec<&str> = prov.overrides.iter().map(String::as_str).collect();
+        ctx.strs(&pg, "overrides", &overrides)?;
+        let fg = root
+            .create_group("fixed_conditions")
+            .map_err(ctx.h5("creating group fixed_conditions"))?;
+        for c in &prov.fixed {
+            ctx.scalar(&fg, &c.key, c.value, &c.unit)?;
+        }
         let keys: Vec<&str> = map.axes.iter().map(|a| a.key.as_str()).collect();
         let units: Vec<&str> = map.axes.iter().map(|a| a.unit.as_str()).collect();
         ctx.strs(root, "axis_keys", &keys)?;
@@ -285,18 +369,36 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
                 .map_err(ctx.h5(format!("writing dataset axis_{k}")))?;
             ctx.attr_str(&ds, "units", &axis.unit)?;
             ctx.attr_str(&ds, "key", &axis.key)?;
+            ds.new_attr::<i64>()
+                .shape(())
+                .create("dimension")
+                .and_then(|a| a.write_scalar(&(1 - k as i64)))
+                .map_err(ctx.h5(format!("writing attribute dimension of axis_{k}")))?;
         }
+        let dims: [&str; 2] = if map.axes.len() == 2 {
+            ["axis_1", "axis_0"]
+        } else {
+            ["", "axis_0"]
+        };
         let p = &map.points;
         let flag = |f: fn(&MapPoint) -> bool| p.iter().map(|x| u8::from(f(x))).collect::<Vec<_>>();
         let real = |f: fn(&MapPoint) -> f64| p.iter().map(f).collect::<Vec<_>>();
-        ctx.grid(root, "trim_found", shape, &flag(|x| x.trim_found), "1")?;
-        ctx.grid(root, "stable", shape, &flag(|x| x.stable), "1")?;
+        ctx.grid(
+            root,
+            "trim_found",
+            shape,
+            &flag(|x| x.trim_found),
+            "1",
+            &dims,
+        )?;
+        ctx.grid(root, "stable", shape, &flag(|x| x.stable), "1", &dims)?;
         ctx.grid(
             root,
             "yaw_damping_ratio",
             shape,
             &real(|x| x.yaw_damping_ratio),
             "1",
+            &dims,
         )?;
         ctx.grid(
             root,
@@ -304,6 +406,7 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
             shape,
             &real(|x| x.yaw_frequency_hz),
             "Hz",
+            &dims,
         )?;
         ctx.grid(
             root,
@@ -311,8 +414,16 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
             shape,
             &real(|x| x.max_real_part),
             "1/s",
+            &dims,
         )?;
-        ctx.grid(root, "lat_accel", shape, &real(|x| x.lat_accel), "m/s^2")?;
+        ctx.grid(
+            root,
+            "lat_accel",
+            shape,
+            &real(|x| x.lat_accel),
+            "m/s^2",
+            &dims,
+        )?;
         file.close().map_err(ctx.h5("closing the HDF5 file"))?;
     }
     temp.persist(path).map_err(|e| io(e.error))?;
@@ -336,7 +447,7 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
         .attr("format_version")
         .and_then(|a| a.read_scalar())
         .map_err(ctx.h5("reading attribute format_version"))?;
-    if version != MAP_FORMAT_VERSION {
+    if !(1..=MAP_FORMAT_VERSION).contains(&version) {
         return Err(ctx.invalid(format!(
             "map format version {version} is not supported (this yawdyn reads {MAP_FORMAT_VERSION})"
         )));
@@ -359,6 +470,11 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
         description: ctx.read_attr_str(root, "description")?,
         axes,
         points: Vec::new(),
+        provenance: if version >= 2 {
+            read_provenance(&ctx, root)?
+        } else {
+            MapProvenance::default()
+        },
     };
     let shape = map.shape();
     let trim_found: Vec<u8> = ctx.read_grid(root, "trim_found", shape)?;
@@ -379,6 +495,50 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
         .collect();
     Ok(map)
 }
+
+/// Reads the provenance and fixed conditions of a version 2 map.
+fn read_provenance(ctx: &Ctx<'_>, root: &Group) -> Result<MapProvenance, MapError> {
+    let pg = root
+        .group("provenance")
+        .map_err(ctx.h5("opening group provenance"))?;
+    let vehicle_toml = pg
+        .dataset("vehicle_toml")
+        .and_then(|d| d.read_scalar::<VarLenUnicode>())
+        .map(|v| v.as_str().to_string())
+        .map_err(ctx.h5("reading dataset vehicle_toml"))?;
+    let fg = root
+        .group("fixed_conditions")
+        .map_err(ctx.h5("opening group fixed_conditions"))?;
+    let mut fixed = Vec::new();
+    for name in fg
+        .member_names()
+        .map_err(ctx.h5("listing fixed_conditions"))?
+    {
+        let ds = fg
+            .dataset(&name)
+            .map_err(ctx.h5(format!("opening fixed condition {name}")))?;
+        fixed.push(FixedCondition {
+            value: ds
+                .read_scalar::<f64>()
+                .map_err(ctx.h5(format!("reading fixed condition {name}")))?,
+            unit: ctx.read_attr_str(&ds, "units")?,
+            key: name,
+        });
+    }
+    // Stored in name order by HDF5: back to the order conditions are written.
+    fixed.sort_by_key(|c| CONDITION_ORDER.iter().position(|k| *k == c.key));
+    Ok(MapProvenance {
+        yawdyn_version: ctx.read_attr_str(root, "yawdyn_version")?,
+        created_utc: ctx.read_attr_str(root, "created_utc")?,
+        vehicle_path: ctx.read_attr_str(root, "vehicle_path")?,
+        vehicle_toml,
+        overrides: ctx.read_strs(&pg, "overrides")?,
+        fixed,
+    })
+}
+
+/// The operating-point quantities of a map, in the order they are listed.
+pub const CONDITION_ORDER: [&str; 4] = ["speed_kph", "lat_accel_g", "long_accel_g", "front_share"];
 
 #[cfg(test)]
 mod tests {
@@ -413,10 +573,30 @@ mod tests {
                 },
             ],
             points: (0..6).map(point).collect(),
+            provenance: MapProvenance {
+                yawdyn_version: "0.0.0".into(),
+                created_utc: "2000-01-01T00:00:00Z".into(),
+                vehicle_path: "invented.toml".into(),
+                vehicle_toml: "name = \"invented\"\n".into(),
+                overrides: vec!["chassis.mass=1500".into()],
+                fixed: vec![
+                    FixedCondition {
+                        key: "lat_accel_g".into(),
+                        value: 0.4,
+                        unit: "g".into(),
+                    },
+                    FixedCondition {
+                        key: "long_accel_g".into(),
+                        value: 0.0,
+                        unit: "g".into(),
+                    },
+                ],
+            },
         };
         write_map(&map, &path).unwrap();
         let back = read_map(&path).unwrap();
         assert_eq!(back.axes, map.axes);
+        assert_eq!(back.provenance, map.provenance);
         for (a, b) in back.points.iter().zip(&map.points) {
             assert_eq!(a.trim_found, b.trim_found);
             assert_eq!(a.stable, b.stable);

@@ -21,7 +21,10 @@ use crate::params::Vehicle;
 pub use linear::{
     LINEAR_STATES, StateGroup, default_relative_step, eigenvalues, participation, state_matrix,
 };
-pub use map::{MapAxis, MapError, MapPoint, StabilityMap, read_map, write_map};
+pub use map::{
+    CONDITION_ORDER, FixedCondition, MapAxis, MapError, MapPoint, MapProvenance, StabilityMap,
+    read_map, write_map,
+};
 pub use solve::{derivative_scale, newton, typical_unknown};
 pub use trim::{Trim, TrimSettings, TrimTarget, find_trim, retrim};
 

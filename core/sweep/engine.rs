@@ -134,6 +134,7 @@ const IN_FLIGHT_PER_JOB: usize = 4;
 ///     script_path: "scripts/power_on_exit.rhai".into(),
 ///     script_text: std::fs::read_to_string("scripts/power_on_exit.rhai").unwrap_or_default(),
 ///     vehicle_path: String::new(),
+///     vehicle_toml: String::new(),
 ///     base_overrides: vec![],
 ///     grid: Grid::new(vec![VaryAxis::parse("drive.front_share=0:1:11")?])?,
 ///     channels: None,
@@ -550,6 +551,9 @@ fn check_shards_match(files: &[SweepFile]) -> Result<(), SweepError> {
         if f.spec.script_text != first.spec.script_text {
             return Err(mismatch("the script text"));
         }
+        if f.spec.vehicle_toml != first.spec.vehicle_toml {
+            return Err(mismatch("the vehicle file"));
+        }
         if f.spec.grid != first.spec.grid {
             return Err(mismatch("the --vary spec"));
         }
@@ -616,7 +620,7 @@ fn storable_criteria(record: &RunRecord) -> Result<(), String> {
 }
 
 /// yawdyn version with git revision, as stored in files.
-pub(crate) fn yawdyn_version() -> String {
+pub fn yawdyn_version() -> String {
     format!(
         "{} ({})",
         env!("CARGO_PKG_VERSION"),

@@ -19,10 +19,16 @@ pub struct VaryAxis {
     pub stop: f64,
     /// Number of values, ≥ 1 (with 1 the only value is `start`).
     pub count: usize,
+    /// Unit of the values, ASCII (e.g. `kg`, `1`; [`crate::params::parameter_unit`]
+    /// for vehicle keys, the script's `param(name, default, unit)` for
+    /// `manoeuvre.*` keys); empty when unknown.
+    pub unit: String,
 }
 
 impl VaryAxis {
-    /// Parses `key=start:stop:count` as given to `--vary`.
+    /// Parses `key=start:stop:count` as given to `--vary`. The unit is that
+    /// of the vehicle key ([`crate::params::parameter_unit`]), empty for
+    /// other keys (the caller may set it).
     ///
     /// ```
     /// let axis = yawdyn::sweep::VaryAxis::parse("drive.front_share=0:1:5").unwrap();
@@ -66,6 +72,9 @@ impl VaryAxis {
             start,
             stop,
             count,
+            unit: crate::params::parameter_unit(key)
+                .unwrap_or_default()
+                .to_string(),
         })
     }
 

@@ -66,6 +66,8 @@
 //! | `/spec/script_text` | text scalar | the full manoeuvre script |
 //! | `/spec/base_overrides` | text\[o\] | `--set` overrides, `key=value`, in order |
 //! | `/spec/vary_keys`, `/spec/vary_start`, `/spec/vary_stop`, `/spec/vary_count` | text/f64/f64/i64 \[p\] | the grid |
+//! | `/spec/vary_units` | text\[p\] | unit of each varied parameter (empty when unknown) |
+//! | `/spec/vehicle_toml` | text scalar | the vehicle file the cases start from, before overrides |
 //! | `/spec/channels` (attribute `channels_selected`) | text\[c\] (i64) | the `--channels` selection (1) or empty for all channels (0) |
 //! | `/summary/case_index` | i64\[r\] | global case index of each row |
 //! | `/summary/status` | text\[r\] | `completed`, `criteria_failed`, `failed` or `error` (see [`CaseStatus`]) |
@@ -73,7 +75,7 @@
 //! | `/summary/failure_time_s` | f64\[r\] | simulation time of a run failure, s; NaN otherwise |
 //! | `/summary/sample_start`, `/summary/sample_count` | i64\[r\] | where the row's samples are in `/time` and the channels (count 0 for `error` rows) |
 //! | `/summary/parameter_order` | text\[p\] | the varied keys |
-//! | `/summary/parameters/<key>` | f64\[r\] | value of each varied parameter |
+//! | `/summary/parameters/<key>` | f64\[r\] | value of each varied parameter; attribute `units` |
 //! | `/summary/metric_order` | text\[m\] | metric names, in order of first report over the cases |
 //! | `/summary/metrics/<name>` | f64\[r\] | the metric; NaN where the case reported none; attributes `units`, `first_case` (index of the first case that reported it) |
 //! | `/summary/criterion_order` | text\[k\] | criterion names, in order of first report |
@@ -112,11 +114,12 @@ use crate::params::Override;
 use crate::results::Access;
 
 pub use case::{Summary, SummaryCriterion, SummaryMetric, SweepCase};
-pub(crate) use engine::yawdyn_version;
 pub use engine::{
     CaseList, CaseRunner, SweepOptions, SweepReport, merge_sweeps, run_cases, run_sweep, utc_now,
+    yawdyn_version,
 };
 pub use grid::{Grid, Shard, VaryAxis};
+pub(crate) use reader::for_each_case;
 pub use reader::{SweepFile, read_sweep};
 
 /// Value of the root `format` attribute of a sweep file.
@@ -135,6 +138,9 @@ pub struct SweepSpec {
     pub script_text: String,
     /// Vehicle file, as given (empty when the script chooses its vehicle).
     pub vehicle_path: String,
+    /// Text of the vehicle file the cases start from, before any override
+    /// (empty when unknown).
+    pub vehicle_toml: String,
     /// `--set` overrides applied to every case before the varied ones.
     pub base_overrides: Vec<Override>,
     /// The varied parameters.

@@ -74,6 +74,11 @@ impl SweepFile {
         self.channels.iter().map(|c| c.name.as_str()).collect()
     }
 
+    /// Units of the stored channels, in the order of [`SweepFile::channel_names`].
+    pub fn channel_units(&self) -> Vec<&str> {
+        self.channels.iter().map(|c| c.unit.as_str()).collect()
+    }
+
     /// Reads case `index` (global index) with all its stored channels.
     pub fn read_case(&self, index: usize) -> Result<SweepCase, SweepError> {
         let row = self
@@ -256,6 +261,22 @@ fn read_spec(ctx: &H5Context, file: &File) -> Result<SweepSpec, SweepError> {
             .invalid("the /spec/vary_* datasets differ in length")
             .into());
     }
+    // Units and the vehicle text were added within layout 2: empty when absent.
+    let units = if spec_group.link_exists("vary_units") {
+        ctx.read_strs(&spec_group, "vary_units")?
+    } else {
+        vec![String::new(); keys.len()]
+    };
+    if units.len() != keys.len() {
+        return Err(ctx
+            .invalid("/spec/vary_units differs in length from /spec/vary_keys")
+            .into());
+    }
+    let vehicle_toml = if spec_group.link_exists("vehicle_toml") {
+        ctx.read_str(&spec_group, "vehicle_toml")?
+    } else {
+        String::new()
+    };
     let mut axes = Vec::new();
     for i in 0..keys.len() {
         let count = usize::try_from(count[i])
@@ -267,6 +288,7 @@ fn read_spec(ctx: &H5Context, file: &File) -> Result<SweepSpec, SweepError> {
             start: start[i],
             stop: stop[i],
             count,
+            unit: units[i].clone(),
         });
     }
     let grid = Grid::new(axes).map_err(|e| ctx.invalid(format!("/spec: {e}")))?;
@@ -282,6 +304,7 @@ fn read_spec(ctx: &H5Context, file: &File) -> Result<SweepSpec, SweepError> {
         script_path: ctx.read_attr_str(file, "script_path")?,
         script_text: ctx.read_str(&spec_group, "script_text")?,
         vehicle_path: ctx.read_attr_str(file, "vehicle_path")?,
+        vehicle_toml,
         base_overrides,
         grid,
         channels: if ctx.read_attr_i64(&spec_group, "channels_selected")? != 0 {

@@ -122,7 +122,7 @@ impl SweepWriter {
         };
         let file = writer.ctx.create_file(&writer.temp)?;
         write_head(&writer.ctx, &file, spec, stamp)?;
-        writer.columns = Some(create_columns(&writer.ctx, &file, &spec.grid.keys())?);
+        writer.columns = Some(create_columns(&writer.ctx, &file, &spec.grid.axes)?);
         writer.file = Some(file);
         Ok(writer)
     }
@@ -392,6 +392,9 @@ fn write_head(
     ctx.dataset_f64(&sg, "vary_start", &start)?;
     ctx.dataset_f64(&sg, "vary_stop", &stop)?;
     ctx.dataset_1d(&sg, "vary_count", &counts)?;
+    let units: Vec<&str> = axes.iter().map(|a| a.unit.as_str()).collect();
+    ctx.dataset_strs(&sg, "vary_units", &units)?;
+    ctx.dataset_str(&sg, "vehicle_toml", &spec.vehicle_toml)?;
     let channels = spec.channels.clone().unwrap_or_default();
     ctx.dataset_strs(&sg, "channels", &str_refs(&channels))?;
     ctx.attr_i64(&sg, "channels_selected", i64::from(spec.channels.is_some()))?;
@@ -402,8 +405,9 @@ fn write_head(
 fn create_columns(
     ctx: &H5Context,
     file: &File,
-    keys: &[String],
+    axes: &[super::VaryAxis],
 ) -> Result<SummaryColumns, SweepError> {
+    let keys: Vec<&str> = axes.iter().map(|a| a.key.as_str()).collect();
     let group = ctx.group(file, SUMMARY)?;
     let number = |name| ctx.growing::<i64>(&group, name, SUMMARY_CHUNK, None);
     let text = |name, chunk| ctx.growing::<hdf5::types::VarLenUnicode>(&group, name, chunk, None);
@@ -414,12 +418,14 @@ fn create_columns(
     ctx.attr_str(&failure_time, "units", "s")?;
     let sample_start = number(SAMPLE_START)?;
     let sample_count = number(SAMPLE_COUNT)?;
-    ctx.dataset_strs(&group, PARAMETER_ORDER, &str_refs(keys))?;
+    ctx.dataset_strs(&group, PARAMETER_ORDER, &keys)?;
     let pg = ctx.group(&group, PARAMETERS)?;
-    let parameters = keys
-        .iter()
-        .map(|key| ctx.growing(&pg, key, SUMMARY_CHUNK, Some(f64::NAN)))
-        .collect::<Result<Vec<_>, _>>()?;
+    let mut parameters = Vec::with_capacity(axes.len());
+    for axis in axes {
+        let ds = ctx.growing(&pg, &axis.key, SUMMARY_CHUNK, Some(f64::NAN))?;
+        ctx.attr_str(&ds, "units", &axis.unit)?;
+        parameters.push(ds);
+    }
     let metric_order = text(METRIC_ORDER, NAME_CHUNK)?;
     let metrics_group = ctx.group(&group, METRICS)?;
     let criterion_order = text(CRITERION_ORDER, NAME_CHUNK)?;

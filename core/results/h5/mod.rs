@@ -55,6 +55,16 @@ pub fn read_hdf5(path: &Path) -> Result<RunRecord, ResultsError> {
     read_all(&ctx, &file)
 }
 
+/// The root `format` attribute of the HDF5 file at `path`, which names the
+/// kind of yawdyn file it is (`yawdyn-results`, `yawdyn-sweep`,
+/// `yawdyn-stability-map`, ...); `None` for an HDF5 file without one.
+/// Errors when the file cannot be opened as HDF5.
+pub fn read_format(path: &Path) -> Result<Option<String>, ResultsError> {
+    let ctx = H5Context::reader(path);
+    let file = ctx.open_file()?;
+    Ok(ctx.read_attr_str(&file, "format").ok())
+}
+
 // ----- the results file ---------------------------------------------------
 
 fn write_all(ctx: &H5Context, file: &File, record: &RunRecord) -> Result<(), ResultsError> {

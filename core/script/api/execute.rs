@@ -14,7 +14,7 @@ use rhai::{AST, CallFnOptions, Dynamic, Engine, EvalAltResult, Position, Scope};
 use super::engine::{MAX_ARRAY_LEN, compile, engine, sandbox};
 use super::errors::{Located, innermost_position, located, position, runtime_error};
 use super::evaluate::channel_map;
-use super::params::{check_given, parameter_names};
+use super::params::{check_given, parameter_names, parameter_units};
 use super::parts::{Parts, Stage};
 use crate::params::Override;
 use crate::results::{Provenance, RunRecord, RunStatus};
@@ -208,6 +208,17 @@ fn definition_of_evaluate(source: ScriptSource<'_>) -> ScriptPosition {
 pub fn manoeuvre_parameters(text: &str, path: &Path) -> Result<Vec<String>, ScriptError> {
     let ast = compile(&sandbox(), text, path)?;
     parameter_names(&ast, path)
+}
+
+/// The units the script in `text` declares for its manoeuvre parameters
+/// (`param("name", default, "unit")`), `(name, unit)`, found without running
+/// it. Parameters read without a unit are not listed.
+pub fn manoeuvre_parameter_units(
+    text: &str,
+    path: &Path,
+) -> Result<Vec<(String, String)>, ScriptError> {
+    let ast = compile(&sandbox(), text, path)?;
+    Ok(parameter_units(&ast))
 }
 
 /// Error unless every `manoeuvre.<name>` key among `keys` (dotted

@@ -30,4 +30,4 @@ mod units;
 mod values;
 
 pub(crate) use execute::{Request, execute};
-pub use execute::{check_manoeuvre_keys, manoeuvre_parameters};
+pub use execute::{check_manoeuvre_keys, manoeuvre_parameter_units, manoeuvre_parameters};

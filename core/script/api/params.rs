@@ -1,6 +1,6 @@
 //! The manoeuvre parameters a script reads, found in its compiled syntax
-//! tree without running it: every call `param("name", default)` with a
-//! literal name. A call whose name is computed is refused with its position,
+//! tree without running it: every call `param("name", default)` or
+//! `param("name", default, "unit")` with a literal name. A call whose name is computed is refused with its position,
 //! because then the names cannot be known before the run.
 
 use std::path::Path;
@@ -26,7 +26,8 @@ pub(crate) fn parameter_names(ast: &AST, path: &Path) -> Result<Vec<String>, Scr
             }
             _ => return true,
         };
-        if call.name != "param" || call.args.len() != 2 || !call.namespace.is_empty() {
+        if call.name != "param" || !(2..=3).contains(&call.args.len()) || !call.namespace.is_empty()
+        {
             return true;
         }
         match &call.args[0] {
@@ -48,6 +49,29 @@ pub(crate) fn parameter_names(ast: &AST, path: &Path) -> Result<Vec<String>, Scr
         }),
         None => Ok(names),
     }
+}
+
+/// The units the script declares for its parameters, `(name, unit)`, from
+/// the calls `param("name", default, "unit")` with a literal unit (the first
+/// such call of each name), in ASCII spelling ([`crate::units::ascii`]).
+pub(crate) fn parameter_units(ast: &AST) -> Vec<(String, String)> {
+    let mut units: Vec<(String, String)> = Vec::new();
+    ast.walk(&mut |nodes: &[ASTNode]| {
+        if let Some(ASTNode::Expr(Expr::FnCall(call, _))) = nodes.last()
+            && call.name == "param"
+            && call.namespace.is_empty()
+            && let [
+                Expr::StringConstant(name, _),
+                _,
+                Expr::StringConstant(unit, _),
+            ] = &call.args[..]
+            && !units.iter().any(|(n, _)| n == name.as_str())
+        {
+            units.push((name.to_string(), crate::units::ascii(unit)));
+        }
+        true
+    });
+    units
 }
 
 /// Error unless every given parameter name is one the script reads.
@@ -98,6 +122,28 @@ mod tests {
         found.sort();
         assert_eq!(found, ["gain", "radius", "scale"]);
         assert!(names("let x = 1;").unwrap().is_empty());
+    }
+
+    /// Units come from the three-argument form, in ASCII spelling.
+    #[test]
+    fn units_come_from_the_third_argument() {
+        let text = r#"
+            let a = param("lat_accel", 5.0, "m/s²");
+            let r = param("radius", 50.0);
+            let t = param("torque", 1400.0, "N*m");
+        "#;
+        let ast = rhai::Engine::new().compile(text).unwrap();
+        assert_eq!(
+            parameter_units(&ast),
+            [
+                ("lat_accel".to_string(), "m/s^2".to_string()),
+                ("torque".to_string(), "N*m".to_string())
+            ]
+        );
+        assert_eq!(
+            parameter_names(&ast, Path::new("t.rhai")).unwrap(),
+            ["lat_accel", "radius", "torque"]
+        );
     }
 
     /// A computed name is refused at its position.

@@ -34,6 +34,16 @@ fn register_declarations(engine: &mut Engine, parts: &Parts) {
         let default = num(&default, "param default")?;
         setup.with(|s| s.param(name, default)).map_err(setup_error)
     });
+    // `param(name, default, unit)`: the unit is read from the syntax tree by
+    // the files that record the parameter (sweep); the run itself ignores it.
+    let setup = parts.setup.clone();
+    engine.register_fn(
+        "param",
+        move |name: &str, default: Dynamic, _unit: &str| -> Res<f64> {
+            let default = num(&default, "param default")?;
+            setup.with(|s| s.param(name, default)).map_err(setup_error)
+        },
+    );
     let setup = parts.setup.clone();
     engine.register_fn("start_speed", move |v: Dynamic| -> Res<()> {
         let v = num(&v, "start speed")?;
