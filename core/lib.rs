@@ -24,6 +24,7 @@ pub mod check;
 pub mod error;
 pub mod manoeuvre;
 pub mod model;
+pub mod output;
 pub mod params;
 pub mod plot;
 pub mod quasi_static;

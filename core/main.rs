@@ -14,7 +14,12 @@ use std::process::ExitCode;
 static ALLOCATOR: yawdyn::script::CountingAllocator = yawdyn::script::CountingAllocator;
 
 fn main() -> ExitCode {
-    match cli::run() {
+    // Before any other thread starts: SIGINT, SIGTERM and SIGHUP remove the
+    // temporary files of unfinished outputs.
+    yawdyn::output::install_signal_cleanup();
+    let outcome = cli::run();
+    cli::stdout::flush();
+    match outcome {
         Ok(cli::Outcome::Success) => ExitCode::from(0),
         Ok(cli::Outcome::Failed) => ExitCode::from(1),
         Err(err) => {

@@ -48,7 +48,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     };
     if args.update {
         update_baseline(&args.result, &args.against)?;
-        println!(
+        outln!(
             "baseline {} replaced by {}",
             args.against.display(),
             args.result.display()
@@ -59,9 +59,9 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     if args.json {
         let mut value = serde_json::to_value(&cmp)?;
         value["passed"] = serde_json::Value::Bool(cmp.passed());
-        println!("{}", serde_json::to_string_pretty(&value)?);
+        outln!("{}", serde_json::to_string_pretty(&value)?);
     } else {
-        print!("{}", report(&cmp));
+        out!("{}", report(&cmp));
     }
     Ok(if cmp.passed() {
         Outcome::Success

@@ -143,7 +143,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         Kind::Gg => friction_usage(&record, &title, &out)?,
         Kind::Auto | Kind::Sweep | Kind::Map => unreachable!("resolved above"),
     }
-    println!("wrote {}", out.display());
+    outln!("wrote {}", out.display());
     Ok(Outcome::Success)
 }
 
@@ -174,7 +174,7 @@ fn stability_map(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
         )));
     }
     super::stability::plot_map(&map, out)?;
-    println!("wrote {}", out.display());
+    outln!("wrote {}", out.display());
     Ok(Outcome::Success)
 }
 
@@ -273,7 +273,7 @@ fn sweep(args: &Args, out: &Path) -> anyhow::Result<Outcome> {
         &Axis::new(axis_label(&metric.name, &eng.unit)),
         &series,
     )?;
-    println!("wrote {}", out.display());
+    outln!("wrote {}", out.display());
     Ok(Outcome::Success)
 }
 
@@ -343,9 +343,11 @@ fn handling(record: &RunRecord, title: &str, out: &Path, fit_max_g: f64) -> anyh
         &data.steer_deg,
         Some((fit.gradient_deg_per_g, fit.intercept_deg, fit.ay_max_g)),
     )?;
-    println!(
+    outln!(
         "understeer gradient {:.3} deg/g ({} points, |ay| <= {fit_max_g:.3} g, R^2 {:.4})",
-        fit.gradient_deg_per_g, fit.count, fit.r_squared
+        fit.gradient_deg_per_g,
+        fit.count,
+        fit.r_squared
     );
     Ok(())
 }

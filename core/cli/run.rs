@@ -94,10 +94,15 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         .out
         .clone()
         .unwrap_or_else(|| default_out(&args.script));
-    results::check_output_path(&out)?;
-    if let Some(csv) = &args.csv {
-        results::check_output_path(csv)?;
+    // The script and vehicle are inputs that no output may replace.
+    yawdyn::output::note_input(&args.script);
+    if let Some(vehicle) = &args.vehicle {
+        yawdyn::output::note_input(vehicle);
     }
+    let outputs: Vec<&std::path::Path> = std::iter::once(out.as_path())
+        .chain(args.csv.as_deref())
+        .collect();
+    super::check_outputs(&outputs)?;
     let bar = progress_bar(args.quiet);
     let options = RunOptions {
         vehicle: args.vehicle.clone(),
@@ -131,7 +136,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
             .with_context(|| format!("cannot write CSV file {}", csv.display()))?;
     }
     if !args.quiet {
-        print!("{}", summary(&record, wall, &out));
+        out!("{}", summary(&record, wall, &out));
     }
     if let RunStatus::Failed { message, time_s } = &record.status {
         eprintln!(

@@ -92,7 +92,12 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         &config.script,
         keys.iter().map(String::as_str).chain(sets),
     )?;
-    yawdyn::results::check_output_path(&config.out)?;
+    // The script and vehicle are inputs that no output may replace.
+    yawdyn::output::note_input(&config.script);
+    if let Some(vehicle) = &config.vehicle {
+        yawdyn::output::note_input(vehicle);
+    }
+    super::check_outputs(&[config.out.as_path()])?;
     preflight(&config)?;
     let runner = script_case_runner(&config.script, config.vehicle.as_deref(), config.limits);
 
@@ -343,22 +348,22 @@ fn print_report(config: &Config, report: &SweepReport) {
         });
         table.row(cells);
     }
-    print!("{}", table.render());
+    out!("{}", table.render());
     if s.len() > MAX_ROWS {
-        println!(
+        outln!(
             "... {} more cases not shown (all are in /summary of {})",
             s.len() - MAX_ROWS,
             report.out.display()
         );
     }
     if s.metrics.len() > MAX_METRICS {
-        println!(
+        outln!(
             "... {} more metrics not shown",
             s.metrics.len() - MAX_METRICS
         );
     }
     let count = |status: CaseStatus| s.status.iter().filter(|&&x| x == status).count();
-    println!(
+    outln!(
         "cases: {} (shard {} of {} in the grid), completed: {}, criteria failed: {}, run failed: {}, error: {}",
         s.len(),
         config.shard,
@@ -368,7 +373,7 @@ fn print_report(config: &Config, report: &SweepReport) {
         count(CaseStatus::Failed),
         count(CaseStatus::Error)
     );
-    println!(
+    outln!(
         "wall time: {} s on {} threads (writing {} s CPU); written to {}",
         fmt_num(report.wall_time_s, 3),
         config.jobs,

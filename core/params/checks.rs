@@ -41,6 +41,17 @@ impl<'a> Checks<'a> {
         }
     }
 
+    /// `value` must be finite and lie in the physically plausible range
+    /// [lo, hi] (in `unit`); the message gives the range.
+    pub(crate) fn plausible(&mut self, path: &str, value: f64, (lo, hi): (f64, f64), unit: &str) {
+        if !(value.is_finite() && value >= lo && value <= hi) {
+            self.push(
+                path,
+                format!("{value} {unit} is outside the plausible range [{lo}, {hi}] {unit}"),
+            );
+        }
+    }
+
     /// `value` must be finite and lie in (0, 1] (an efficiency or a fraction that cannot be zero).
     pub(crate) fn fraction(&mut self, path: &str, value: f64) {
         if !(value.is_finite() && value > 0.0 && value <= 1.0) {

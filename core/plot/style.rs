@@ -82,9 +82,11 @@ where
             message: e.to_string(),
         })?;
     }
-    std::fs::write(path, text).map_err(|source| PlotError::Io {
-        path: path.to_path_buf(),
-        source,
+    crate::output::write_atomically(path, |temp| {
+        std::fs::write(temp, text).map_err(|source| PlotError::Io {
+            path: path.to_path_buf(),
+            source,
+        })
     })
 }
 
