@@ -4,14 +4,24 @@
 //!
 //! When standard output is a closed pipe, the rest of the output is dropped,
 //! the command finishes its work (output files are still written) and exits
-//! with its usual status. Any other write error (a full disk behind `>`) is
-//! reported once on standard error and the output dropped likewise.
+//! with its usual status. Any other write error (a full disk behind `>`)
+//! drops the output likewise, and `main` reports it and exits 1 (the
+//! machine got in the way).
 
 use std::io::Write;
+use std::sync::Mutex;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Set once standard output cannot be written any more.
 static CLOSED: AtomicBool = AtomicBool::new(false);
+
+/// The write error other than a closed pipe, if one happened.
+static ERROR: Mutex<Option<String>> = Mutex::new(None);
+
+/// The write error other than a closed pipe that ended the output, if any.
+pub fn write_error() -> Option<String> {
+    ERROR.lock().unwrap_or_else(|e| e.into_inner()).clone()
+}
 
 /// Writes formatted text to standard output, unless it is closed.
 pub fn write(args: std::fmt::Arguments<'_>) {
@@ -46,11 +56,10 @@ pub fn flush() {
     }
 }
 
-/// Marks standard output closed; says why unless the reader went away.
+/// Marks standard output closed; keeps the error unless the reader went away.
 fn close(error: &std::io::Error) {
     if !CLOSED.swap(true, Ordering::Relaxed) && error.kind() != std::io::ErrorKind::BrokenPipe {
-        eprintln!(
-            "warning: cannot write to standard output ({error}); the rest of the output is dropped"
-        );
+        *ERROR.lock().unwrap_or_else(|e| e.into_inner()) =
+            Some(format!("cannot write to standard output: {error}"));
     }
 }
