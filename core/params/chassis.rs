@@ -131,8 +131,9 @@ impl Chassis {
                 checks.push(
                     &path,
                     format!(
-                        "{v} kg*m^2 with mass {} kg means a radius of gyration of {radius:.3} m, \
+                        "{} kg*m^2 with mass {} kg means a radius of gyration of {radius:.3} m, \
                          outside the plausible range [{lo}, {hi}] m: allowed [{:.4}, {:.4e}] kg*m^2",
+                        super::checks::short(v),
                         c.mass,
                         c.mass * lo * lo,
                         c.mass * hi * hi
@@ -202,6 +203,7 @@ impl Chassis {
         // (Thomson & Dahleh, Theory of Vibration with Applications, ch. 2,
         // viscously damped free vibration; from memory). Roll uses the net stiffness after the overturning
         // moment m·g·H.
+        let mass_ok = (MASS.0..=MASS.1).contains(&built.mass);
         let net_roll =
             built.total_roll_stiffness() - built.mass * super::GRAVITY * built.roll_arm();
         let roll_damping = built.roll_damping[FRONT] + built.roll_damping[REAR];
@@ -222,7 +224,13 @@ impl Chassis {
             ),
         ] {
             let zeta = damping / (2.0 * (stiffness * inertia).sqrt());
-            if stiffness > 0.0 && inertia > 0.0 && zeta.is_finite() && zeta > DAMPING_RATIO_MAX {
+            let inertia_ok = (INERTIA.0..=INERTIA.1).contains(&inertia);
+            if mass_ok
+                && inertia_ok
+                && stiffness > 0.0
+                && zeta.is_finite()
+                && zeta > DAMPING_RATIO_MAX
+            {
                 let most = DAMPING_RATIO_MAX * 2.0 * (stiffness * inertia).sqrt();
                 checks.push(
                     path,
@@ -237,7 +245,10 @@ impl Chassis {
         // The roll spring must hold the body up against its own overturning
         // moment m·g·H·φ (Gillespie, Fundamentals of Vehicle Dynamics, ch. 8).
         let overturning = built.mass * super::GRAVITY * built.roll_arm();
-        if built.total_roll_stiffness() <= overturning && built.total_roll_stiffness() > 0.0 {
+        if mass_ok
+            && built.total_roll_stiffness() <= overturning
+            && built.total_roll_stiffness() > 0.0
+        {
             checks.push(
                 "chassis.roll_stiffness_front",
                 format!(

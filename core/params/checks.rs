@@ -4,6 +4,17 @@
 
 use super::issue::ParamIssue;
 
+/// A number as written in messages: exponent notation when very large or
+/// small (1.7e308, not 309 digits).
+pub(crate) fn short(value: f64) -> String {
+    let size = value.abs();
+    if value.is_finite() && size != 0.0 && !(1e-3..1e7).contains(&size) {
+        format!("{value:e}")
+    } else {
+        format!("{value}")
+    }
+}
+
 /// The problems found so far in one vehicle file.
 pub(crate) struct Checks<'a> {
     issues: &'a mut Vec<ParamIssue>,
@@ -47,7 +58,12 @@ impl<'a> Checks<'a> {
         if !(value.is_finite() && value >= lo && value <= hi) {
             self.push(
                 path,
-                format!("{value} {unit} is outside the plausible range [{lo}, {hi}] {unit}"),
+                format!(
+                    "{} {unit} is outside the plausible range [{}, {}] {unit}",
+                    short(value),
+                    short(lo),
+                    short(hi)
+                ),
             );
         }
     }

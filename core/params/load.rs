@@ -215,6 +215,29 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
                     format!("missing key `{key}`"),
                 ));
             }
+        } else if let Some(array) = array_of_tables(&table, &segments) {
+            // `[[chassis]]` where one `[chassis]` table is wanted: one
+            // message, and the first table read in its place.
+            issues.push(ParamIssue::new(
+                array.clone(),
+                format!(
+                    "written as an array of tables (`[[{array}]]`); write it once as a table, `[{array}]`"
+                ),
+            ));
+            let parts: Vec<String> = array.split('.').map(str::to_string).collect();
+            let (last, parents) = parts.split_last().unwrap_or((&array, &[]));
+            let Some(parent) = walk_mut(&mut table, parents) else {
+                return (None, issues);
+            };
+            let first = match parent.get(last) {
+                Some(toml::Value::Array(items)) => items.first().cloned(),
+                _ => None,
+            };
+            parent.insert(
+                last.clone(),
+                first.unwrap_or(toml::Value::Table(toml::Table::new())),
+            );
+            continue;
         } else if !patched.iter().any(|(p, _)| p == &segments) {
             let friendly = friendly_message(&message);
             let expected = backticked(message.split_once("expected").map_or("", |x| x.1));
@@ -316,7 +339,7 @@ fn toml_kind(text: &str) -> String {
     if text.contains("variant") {
         return "one of the named values".to_string();
     }
-    let kind = if text.starts_with("map") || text.starts_with("struct ") || text == "a map" {
+    if text.starts_with("map") || text.starts_with("struct ") || text == "a map" {
         "a table".to_string()
     } else if text.starts_with("sequence")
         || text.starts_with("a sequence")
@@ -356,8 +379,25 @@ fn toml_kind(text: &str) -> String {
         "one of the named values".to_string()
     } else {
         text.to_string()
-    };
-    kind
+    }
+}
+
+/// The key path of an array of tables on the way to `segments` (an error
+/// inside `chassis[0]` when `chassis` is written `[[chassis]]`).
+fn array_of_tables(table: &toml::Table, segments: &[String]) -> Option<String> {
+    let mut current = table;
+    let mut path = Vec::new();
+    for s in segments {
+        path.push(s.clone());
+        match current.get(s)? {
+            toml::Value::Table(t) => current = t,
+            toml::Value::Array(items) if items.iter().all(toml::Value::is_table) => {
+                return Some(path.join("."));
+            }
+            _ => return None,
+        }
+    }
+    None
 }
 
 /// The candidate closest to `key`, if close enough to be a misspelling.

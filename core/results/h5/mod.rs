@@ -308,9 +308,7 @@ impl H5Context {
             let ds = self.open_dataset(&metrics_group, &name)?;
             self.check_object::<f64>(&ds, &ds.name())?;
             if ds.ndim() != 0 {
-                return Err(self
-                    .invalid(format!("{} is not a single number", ds.name()))
-                    .into());
+                return Err(self.invalid(format!("{} is not a single number", ds.name())));
             }
             let value: f64 = ds
                 .read_scalar()
