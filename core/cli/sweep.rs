@@ -291,7 +291,11 @@ fn preflight(config: &Config) -> anyhow::Result<()> {
                     } else {
                         "vehicle file:"
                     };
-                    let message = i.message.replace("(from <--set>) ", "");
+                    let message = i
+                        .message
+                        .strip_prefix("(override `")
+                        .and_then(|m| m.split_once("`) "))
+                        .map_or(i.message.as_str(), |(_, rest)| rest);
                     format!("{option} {}: {message}", i.path)
                 })
                 .collect();

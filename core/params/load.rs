@@ -95,8 +95,11 @@ pub fn load_vehicle_text(
     }
     let (file, mut schema_issues) = deserialize_collecting(table);
     for issue in &mut schema_issues {
-        if override_paths.iter().any(|p| p == &issue.path) {
-            issue.message = format!("(from {OVERRIDE_SOURCE}) {}", issue.message);
+        // A problem of an override (`--set`, `--vary`, the script's `set`)
+        // names the override itself, whichever option gave it.
+        let from = overrides.iter().rev().find(|o| o.path == issue.path);
+        if let Some(o) = from.filter(|o| override_paths.contains(&o.path)) {
+            issue.message = format!("(override `{}`) {}", o.to_text(), issue.message);
         } else {
             issue.line = lines.line_of(&issue.path);
         }
