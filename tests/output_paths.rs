@@ -231,3 +231,24 @@ fn signals_remove_temporary_files_and_leftovers_of_a_kill_are_cleaned() {
         temp_files(dir.path())
     );
 }
+
+/// A sweep far too large, or with absurdly many threads, is refused at once
+/// (exit 2) instead of starting.
+#[test]
+fn sweep_size_and_threads_are_capped() {
+    let dir = TempDir::new();
+    short_script(&dir);
+    for args in [
+        &["--vary", "drive.front_share=0:1:1000000000"][..],
+        &["--vary", "road.friction=0.5:1:3", "--jobs", "1000000"][..],
+    ] {
+        let out = dir.yawdyn(["sweep", "short.rhai"].iter().chain(args));
+        out.expect_code(2);
+        assert!(
+            out.stderr.contains("10000000") || out.stderr.contains("at most 1024"),
+            "{}",
+            out.stderr
+        );
+    }
+    assert!(temp_files(dir.path()).is_empty());
+}

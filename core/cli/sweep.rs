@@ -78,6 +78,9 @@ struct Config {
     limits: Limits,
 }
 
+/// Most worker threads `--jobs` accepts.
+const MAX_JOBS: usize = 1024;
+
 /// Runs `yawdyn sweep`.
 pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     args.script = resolve_script(&args.script)?;
@@ -147,6 +150,11 @@ fn check(args: Args) -> anyhow::Result<Config> {
     };
     let jobs = match args.jobs {
         Some(0) => return Err(bad_input("--jobs 0: need at least one worker thread")),
+        Some(n) if n > MAX_JOBS => {
+            return Err(bad_input(format!(
+                "--jobs {n}: at most {MAX_JOBS} worker threads (more only compete for the processors)"
+            )));
+        }
         Some(n) => n,
         None => std::thread::available_parallelism().map_or(1, |n| n.get()),
     };
