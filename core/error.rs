@@ -80,8 +80,9 @@ pub const EXIT_CODES: [(u8, &str); 3] = [
     (
         2,
         "bad input: options, vehicle file, script, a manoeuvre.* key the script does not read, \
-         input file or output path (read-only or missing directory, a directory where a file \
-         is wanted); the message names the file, line or key",
+         input file (missing, damaged or foreign) or output path (read-only or missing \
+         directory; a directory, device, FIFO or socket where a file is wanted; one of the \
+         command's own inputs); the message names the file, line or key",
     ),
 ];
 

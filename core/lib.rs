@@ -25,6 +25,7 @@ pub mod error;
 pub mod files;
 pub mod manoeuvre;
 pub mod model;
+pub mod output;
 pub mod params;
 pub mod plot;
 pub mod quasi_static;

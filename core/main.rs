@@ -14,7 +14,19 @@ use std::process::ExitCode;
 static ALLOCATOR: yawdyn::script::CountingAllocator = yawdyn::script::CountingAllocator;
 
 fn main() -> ExitCode {
-    match cli::run() {
+    // Before any other thread starts: SIGINT, SIGTERM and SIGHUP remove the
+    // temporary files of unfinished outputs.
+    yawdyn::output::install_signal_cleanup();
+    let outcome = cli::run();
+    cli::stdout::flush();
+    // Standard output that failed (not a closed pipe): the machine got in
+    // the way, exit 1 unless the command already failed worse.
+    let write_error = cli::stdout::write_error();
+    if let Some(message) = &write_error {
+        eprintln!("error: {message}");
+    }
+    match outcome {
+        Ok(cli::Outcome::Success) if write_error.is_some() => ExitCode::from(1),
         Ok(cli::Outcome::Success) => ExitCode::from(0),
         Ok(cli::Outcome::Failed) => ExitCode::from(1),
         Err(err) => {

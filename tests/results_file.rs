@@ -351,11 +351,11 @@ fn uncreatable_directory_is_an_error_and_leaves_no_file() {
     fs::write(&blocker, "x").unwrap();
     let path = blocker.join("sub/run.h5");
     let err = write_hdf5(&synthetic_record(), &path).unwrap_err();
-    assert!(matches!(err, ResultsError::Io { .. }), "{err:?}");
+    assert!(matches!(err, ResultsError::Output(_)), "{err:?}");
     assert!(err.to_string().contains("not_a_dir"), "{err}");
     assert!(!path.exists());
     let err = write_csv(&synthetic_record(), &blocker.join("run.csv")).unwrap_err();
-    assert!(matches!(err, ResultsError::Io { .. }), "{err:?}");
+    assert!(matches!(err, ResultsError::Output(_)), "{err:?}");
     assert_eq!(dir_entries(dir.path()), ["not_a_dir"]);
 }
 

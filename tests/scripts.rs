@@ -525,9 +525,10 @@ fn diverging_run_exits_1_and_keeps_the_channels() {
     let path = write_with_vehicle(
         &dir,
         "diverge.rhai",
-        r#"set("tyre.front.relaxation_length_lateral", 1e-3);
-set("tyre.front.relaxation_length_longitudinal", 1e-3);
+        r#"set("tyre.front.relaxation_length_lateral", 0.01);
+set("tyre.front.relaxation_length_longitudinal", 0.01);
 solver("rk4");
+fixed_step(0.005);
 start_speed(2.0);
 drive(1.0);
 run_for(5.0);

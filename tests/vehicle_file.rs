@@ -100,8 +100,10 @@ fn typo_in_key_is_reported_with_line_and_suggestion() {
     assert!(e.contains("chassis.yaw_inerta"), "{e}");
     assert!(e.contains("did you mean `yaw_inertia`"), "{e}");
     assert!(e.contains("line 12: `chassis.yaw_inerta`"), "{e}");
-    // The same file also lacks the real key: reported in the same run.
-    assert!(e.contains("missing key `yaw_inertia`"), "{e}");
+    // The misspelt key is read as the key suggested: one message, not a
+    // second one for the missing real key.
+    assert!(!e.contains("missing key `yaw_inertia`"), "{e}");
+    assert!(e.contains("1 problem(s)"), "{e}");
 }
 
 #[test]
@@ -262,4 +264,101 @@ fn hybrid_problems_are_located() {
             && e.contains("strictly increasing"),
         "{e}"
     );
+}
+
+/// Absurd values are refused with the plausible range in the message; the
+/// damping ratio implied by stiffness and inertia is checked too.
+#[test]
+fn implausible_values_are_refused_with_their_range() {
+    let cases: [(&str, &str, &str); 5] = [
+        (
+            "mass = 1820.0",
+            "mass = 1.7e308",
+            "1.7e308 kg is outside the plausible range [50, 100000] kg",
+        ),
+        (
+            "mass = 1820.0",
+            "mass = 5e-324",
+            "5e-324 kg is outside the plausible range [50, 100000] kg",
+        ),
+        (
+            "yaw_inertia = 3100.0",
+            "yaw_inertia = 1e9",
+            "outside the plausible range [1, 1e7] kg*m^2",
+        ),
+        (
+            "yaw_inertia = 3100.0",
+            "yaw_inertia = 3.0",
+            "radius of gyration of 0.041 m",
+        ),
+        (
+            "roll_damping_rear = 3500.0",
+            "roll_damping_rear = 6991756545.2",
+            "at most 5 is accepted",
+        ),
+    ];
+    for (from, to, expected) in cases {
+        let dir = tempfile::tempdir().unwrap();
+        let path = edited(dir.path(), |t| t.replacen(from, to, 1));
+        let o = yawdyn(&["vehicle", path.to_str().unwrap()]);
+        assert_eq!(o.status.code(), Some(2), "{to}");
+        let e = stderr(&o);
+        assert!(e.contains(expected), "{to}: {e}");
+        assert!(!e.contains("inf") && !e.contains("NaN"), "{to}: {e}");
+    }
+}
+
+/// Syntax and type problems: located, named, without Rust type names.
+#[test]
+fn syntax_and_type_messages_name_the_key_and_position() {
+    let cases: [(&str, &str, &[&str]); 4] = [
+        (
+            "mass = 1820.0",
+            "mass = 1820.0\nmass = 3.0",
+            &[
+                "line 12: `chassis.mass`",
+                "column 1",
+                "duplicate key `mass`",
+            ],
+        ),
+        (
+            "wheelbase = 2.70",
+            "wheelbase = 2..70",
+            &[
+                "line 15: `chassis.wheelbase`",
+                "column 15",
+                "not valid TOML",
+            ],
+        ),
+        (
+            "[chassis]",
+            "[[chassis]]",
+            &["`chassis`", "array of tables", "`[chassis]`"],
+        ),
+        (
+            "[chassis]",
+            "[chasis]",
+            &["`chasis`", "did you mean `chassis`?", "1 problem(s)"],
+        ),
+    ];
+    for (from, to, expected) in cases {
+        let dir = tempfile::tempdir().unwrap();
+        let path = edited(dir.path(), |t| t.replacen(from, to, 1));
+        let o = yawdyn(&["vehicle", path.to_str().unwrap()]);
+        assert_eq!(o.status.code(), Some(2), "{to}");
+        let e = stderr(&o);
+        for text in expected {
+            assert!(e.contains(text), "{to}: missing {text:?} in {e}");
+        }
+        for leak in ["unit variant", "File", "i128", "f64", "map,"] {
+            assert!(!e.contains(leak), "{to}: {leak:?} in {e}");
+        }
+    }
+    // A byte that is not UTF-8, by line and column.
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("car.toml");
+    std::fs::write(&path, b"name = \"x\"\nb = \"\xff\"\n").unwrap();
+    let o = yawdyn(&["vehicle", path.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("line 2, column 6"), "{}", stderr(&o));
 }

@@ -236,6 +236,9 @@ pub enum CheckError {
     /// The tolerance is unusable.
     #[error("bad tolerance: {0}")]
     Tolerance(String),
+    /// The baseline path is refused or cannot be written (see [`crate::output`]).
+    #[error(transparent)]
+    Output(#[from] crate::output::OutputError),
     /// Copying the result over the baseline failed.
     #[error("{}: {action}: {source}", path.display())]
     Io {
@@ -259,6 +262,7 @@ impl crate::error::Classify for CheckError {
             CheckError::Read { source, .. } => source.kind(),
             CheckError::Tolerance(_) => crate::error::ErrorKind::BadInput,
             CheckError::Io { source, .. } => crate::error::io_kind(source),
+            CheckError::Output(e) => e.kind(),
         }
     }
 }
@@ -564,28 +568,15 @@ pub fn update_baseline(result: &Path, baseline: &Path) -> Result<(), CheckError>
             source,
         }
     };
-    let dir = match baseline.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    fs::create_dir_all(&dir).map_err(io(&dir, "creating the baseline directory"))?;
-    let name = baseline
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "baseline".to_string());
-    let temp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
-    let outcome = fs::copy(result, &temp)
-        .map_err(io(&temp, "copying the result"))
-        .and_then(|_| {
-            fs::File::open(&temp)
-                .and_then(|f| f.sync_all())
-                .map_err(io(&temp, "flushing the copy to disk"))
-        })
-        .and_then(|()| fs::rename(&temp, baseline).map_err(io(baseline, "renaming the copy")));
-    if outcome.is_err() {
-        let _ = fs::remove_file(&temp);
-    }
-    outcome
+    crate::output::write_atomically(baseline, |temp| {
+        let mut from = fs::File::open(result).map_err(io(result, "opening the result"))?;
+        let mut to = fs::OpenOptions::new()
+            .write(true)
+            .open(temp)
+            .map_err(io(temp, "opening the copy"))?;
+        std::io::copy(&mut from, &mut to).map_err(io(temp, "copying the result"))?;
+        Ok(())
+    })
 }
 
 #[cfg(test)]

@@ -68,12 +68,14 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     };
     let report = yawdyn::bench::run(&vehicle, options)?;
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&report)?);
+        outln!("{}", serde_json::to_string_pretty(&report)?);
         return Ok(Outcome::Success);
     }
-    println!(
+    outln!(
         "{} s of cornering from 80 km/h, {} deg steering-wheel angle; {} interleaved repeats",
-        report.duration_s, args.steer_deg, report.repeats
+        report.duration_s,
+        args.steer_deg,
+        report.repeats
     );
     let mut t = Table::new([
         "run",
@@ -99,9 +101,9 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
             &r.samples.to_string(),
         ]);
     }
-    print!("{}", t.render());
+    out!("{}", t.render());
     for r in &report.runs {
-        println!("  {}: {}", r.name, r.description);
+        outln!("  {}: {}", r.name, r.description);
     }
     let mut t = Table::new(["measure", "value", "unit"]);
     t.row([
@@ -134,6 +136,6 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         &fmt_num(report.final_lat_accel, 4),
         "m/s^2",
     ]);
-    print!("{}", t.render());
+    out!("{}", t.render());
     Ok(Outcome::Success)
 }

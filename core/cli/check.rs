@@ -79,7 +79,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     };
     if args.update {
         update_baseline(result, against)?;
-        println!(
+        outln!(
             "baseline {} replaced by {}",
             against.display(),
             result.display()
@@ -102,9 +102,9 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     if args.json {
         let mut value = serde_json::to_value(&cmp)?;
         value["passed"] = serde_json::Value::Bool(cmp.passed());
-        println!("{}", serde_json::to_string_pretty(&value)?);
+        outln!("{}", serde_json::to_string_pretty(&value)?);
     } else {
-        print!("{}", report(&cmp));
+        out!("{}", report(&cmp));
     }
     Ok(if cmp.passed() {
         Outcome::Success
@@ -266,14 +266,15 @@ fn check_all(dir: &Path, tolerance: Tolerance, args: &Args) -> anyhow::Result<Ou
             "passed": passed,
             "results": results,
         });
-        println!("{}", serde_json::to_string_pretty(&value)?);
+        outln!("{}", serde_json::to_string_pretty(&value)?);
     } else {
-        println!(
+        outln!(
             "rule: |result - baseline| <= atol + rtol*|baseline|, rtol {}, atol {}",
-            tolerance.rtol, tolerance.atol
+            tolerance.rtol,
+            tolerance.atol
         );
-        print!("{}", table.render());
-        println!(
+        out!("{}", table.render());
+        outln!(
             "{}: {passed} of {} baselines in {} reproduced within tolerance",
             if passed == cases.len() {
                 "PASS"

@@ -32,9 +32,7 @@ pub fn run_completions(args: CompletionsArgs) -> anyhow::Result<Outcome> {
     let mut command = Cli::command();
     let mut script = Vec::new();
     clap_complete::generate(args.shell, &mut command, "yawdyn", &mut script);
-    let mut out = std::io::stdout().lock();
-    out.write_all(&script)?;
-    out.flush()?;
+    super::stdout::write_bytes(&script);
     Ok(Outcome::Success)
 }
 
@@ -54,11 +52,9 @@ pub fn run_manpage(_args: ManpageArgs) -> anyhow::Result<Outcome> {
     }
     man.render_extra_section(&mut page)?;
     man.render_version_section(&mut page)?;
-    let mut out = std::io::stdout().lock();
     // clap_mangen heads the after-help text "EXTRA"; "NOTES" is the man-page custom.
     let page = String::from_utf8_lossy(&page).replace("EXTRA\n", "NOTES\n");
-    out.write_all(page.as_bytes())?;
-    out.flush()?;
+    super::stdout::write_bytes(page.as_bytes());
     Ok(Outcome::Success)
 }
 

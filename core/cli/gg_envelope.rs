@@ -57,6 +57,12 @@ struct Timed {
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let overrides = parse_overrides(&args.sets)?;
     let vehicle = load_vehicle(&args.vehicle, &overrides)?;
+    let outputs: Vec<&std::path::Path> = [&args.out, &args.plot]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    super::check_outputs(&outputs)?;
     let speeds = parse_values("speed-kph", &args.speed_kph)?;
     let share = args.front_share.unwrap_or(vehicle.powertrain.front_share);
     let settings = EnvelopeSettings {
@@ -112,7 +118,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         gg_envelope(svg, &title, &curves)?;
     }
     if args.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&to_json(&vehicle, share, &results, elapsed))?
         );
@@ -148,13 +154,13 @@ fn limit_name(l: LimitKind) -> &'static str {
 }
 
 fn print_table(v: &Vehicle, share: f64, results: &[Timed], elapsed: f64) {
-    println!("{}", v.name);
-    println!(
+    outln!("{}", v.name);
+    outln!(
         "g-g-V envelope: zero yaw moment, front share {}, {} directions",
         fmt_num(share, 3),
         results.first().map_or(0, |r| r.envelope.points.len())
     );
-    println!();
+    outln!();
     let mut t = Table::new([
         "speed [km/h]",
         "accel [g]",
@@ -186,9 +192,9 @@ fn print_table(v: &Vehicle, share: f64, results: &[Timed], elapsed: f64) {
             fmt_num(r.seconds, 3),
         ]);
     }
-    print!("{}", t.render());
-    println!();
-    println!(
+    out!("{}", t.render());
+    outln!();
+    outln!(
         "Each speed on one thread; the time column is that thread's time. Total {:.3} s.",
         elapsed
     );

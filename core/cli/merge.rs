@@ -6,7 +6,7 @@ use std::path::PathBuf;
 use yawdyn::sweep::{CaseStatus, merge_sweeps};
 use yawdyn::table::fmt_num;
 
-use super::{Outcome, bad_input};
+use super::Outcome;
 
 /// Arguments of `yawdyn merge`.
 #[derive(Debug, clap::Args)]
@@ -27,12 +27,11 @@ pub struct Args {
 /// belong together, do not cover the sweep exactly once, or are not sweep
 /// files of this layout version.
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
-    if args.shards.iter().any(|s| s == &args.out) {
-        return Err(bad_input(format!(
-            "{}: the output may not be one of the shard files",
-            args.out.display()
-        )));
+    // The shards are inputs that the output may not replace.
+    for shard in &args.shards {
+        yawdyn::output::note_input(shard);
     }
+    super::check_outputs(&[args.out.as_path()])?;
     let report = merge_sweeps(&args.out, &args.shards)?;
     let s = &report.summary;
     let not_completed = s
@@ -62,10 +61,10 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
             "wall_time_s": report.wall_time_s,
             "writer_cpu_s": report.writer_cpu_s,
         });
-        println!("{}", serde_json::to_string_pretty(&value)?);
+        outln!("{}", serde_json::to_string_pretty(&value)?);
         return Ok(Outcome::Success);
     }
-    println!(
+    outln!(
         "merged {} cases from {} shard files into {} ({} not completed) in {} s \
          (reading and writing {} s CPU)",
         s.len(),

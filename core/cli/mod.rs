@@ -2,6 +2,23 @@
 //! subcommand. Each subcommand validates its input into library types before
 //! any work starts.
 
+/// `println!` through [`stdout::write`]: a closed pipe ends output quietly.
+macro_rules! outln {
+    () => {
+        $crate::cli::stdout::write(format_args!("\n"))
+    };
+    ($($arg:tt)*) => {
+        $crate::cli::stdout::write(format_args!("{}\n", format_args!($($arg)*)))
+    };
+}
+
+/// `print!` through [`stdout::write`]: a closed pipe ends output quietly.
+macro_rules! out {
+    ($($arg:tt)*) => {
+        $crate::cli::stdout::write(format_args!($($arg)*))
+    };
+}
+
 mod bench;
 mod check;
 mod completions;
@@ -14,6 +31,7 @@ mod run;
 mod sensitivity;
 mod show;
 mod stability;
+pub mod stdout;
 mod sweep;
 mod tyre;
 mod values;
@@ -77,6 +95,7 @@ fn kind_of(cause: &(dyn std::error::Error + 'static)) -> Option<ErrorKind> {
         as_kind::<yawdyn::params::ParamError>,
         as_kind::<yawdyn::params::ParamIssue>,
         as_kind::<yawdyn::results::ResultsError>,
+        as_kind::<yawdyn::output::OutputError>,
         as_kind::<yawdyn::sim::SimError>,
         as_kind::<yawdyn::sweep::SweepError>,
         as_kind::<yawdyn::check::CheckError>,
@@ -211,7 +230,7 @@ pub fn run() -> anyhow::Result<Outcome> {
                 e.kind(),
                 clap::error::ErrorKind::DisplayHelp | clap::error::ErrorKind::DisplayVersion
             ) {
-                print!("{e}");
+                out!("{e}");
                 return Ok(Outcome::Success);
             }
             eprint!("{e}");
@@ -236,6 +255,19 @@ pub fn run() -> anyhow::Result<Outcome> {
         Command::Tyre(args) => tyre::run(args),
         Command::Sensitivity(args) => sensitivity::run(args),
     }
+}
+
+/// Checks the output paths of a command before its work starts: each by the
+/// rules of [`yawdyn::output`] (never a directory, device, FIFO, socket or
+/// one of the command's inputs read so far), and no two the same file.
+pub fn check_outputs(outputs: &[&std::path::Path]) -> anyhow::Result<()> {
+    for (i, out) in outputs.iter().enumerate() {
+        yawdyn::output::check_output_path(out)?;
+        for earlier in &outputs[..i] {
+            yawdyn::output::refuse_same_output(earlier, out)?;
+        }
+    }
+    Ok(())
 }
 
 /// Parses `--set key=value` options into overrides (bad input on error).

@@ -193,13 +193,13 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
             "cases": drawn.cases,
             "notes": drawn.notes,
         });
-        println!("{}", serde_json::to_string_pretty(&summary)?);
+        outln!("{}", serde_json::to_string_pretty(&summary)?);
     } else {
         for note in &drawn.notes {
-            println!("{note}");
+            outln!("{note}");
         }
         for p in &written {
-            println!("wrote {}", p.display());
+            outln!("wrote {}", p.display());
         }
     }
     Ok(Outcome::Success)

@@ -98,10 +98,15 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         .out
         .clone()
         .unwrap_or_else(|| default_out(&args.script));
-    results::check_output_path(&out)?;
-    if let Some(csv) = &args.csv {
-        results::check_output_path(csv)?;
+    // The script and vehicle are inputs that no output may replace.
+    yawdyn::output::note_input(&args.script);
+    if let Some(vehicle) = &args.vehicle {
+        yawdyn::output::note_input(vehicle);
     }
+    let outputs: Vec<&std::path::Path> = std::iter::once(out.as_path())
+        .chain(args.csv.as_deref())
+        .collect();
+    super::check_outputs(&outputs)?;
     let hidden = args.quiet || args.json;
     let progress = std::rc::Rc::new(Progress::new(
         "run",
@@ -146,9 +151,9 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         value["csv_file"] = serde_json::json!(args.csv.as_ref().map(|c| c.display().to_string()));
         value["wall_time_s"] = serde_json::json!(wall);
         value["passed"] = serde_json::json!(record.passed());
-        println!("{}", serde_json::to_string_pretty(&value)?);
+        outln!("{}", serde_json::to_string_pretty(&value)?);
     } else if !args.quiet {
-        print!("{}", summary(&record, wall, &out));
+        out!("{}", summary(&record, wall, &out));
     }
     if let RunStatus::Failed { message, time_s } = &record.status {
         eprintln!(

@@ -542,7 +542,7 @@ fn print_json(
             .collect(),
         skipped: &plan.skipped,
     };
-    println!("{}", serde_json::to_string_pretty(&report)?);
+    outln!("{}", serde_json::to_string_pretty(&report)?);
     Ok(())
 }
 
@@ -572,9 +572,9 @@ fn print_tables(config: &Config, plan: &Plan, rankings: &[Ranking], failed_cases
     };
     for (k, r) in rankings.iter().enumerate() {
         if k > 0 {
-            println!();
+            outln!();
         }
-        println!("{}", heading(r));
+        outln!("{}", heading(r));
         let mut table = Table::new([
             "rank",
             "parameter",
@@ -596,15 +596,15 @@ fn print_tables(config: &Config, plan: &Plan, rankings: &[Ranking], failed_cases
                 n(e.asymmetry),
             ]);
         }
-        print!("{}", table.render());
+        out!("{}", table.render());
         if ranked.len() > shown(config, ranked.len()) {
-            println!(
+            outln!(
                 "... {} more parameters not shown (--top 0 shows all)",
                 ranked.len() - shown(config, ranked.len())
             );
         }
         if !r.failures.is_empty() {
-            println!("failed perturbations ({}):", r.failures.len());
+            outln!("failed perturbations ({}):", r.failures.len());
             let mut failures = Table::new(["parameter", "step", "value", "why"]);
             for f in &r.failures {
                 failures.row([
@@ -614,23 +614,23 @@ fn print_tables(config: &Config, plan: &Plan, rankings: &[Ranking], failed_cases
                     shorten(&f.message),
                 ]);
             }
-            print!("{}", failures.render());
+            out!("{}", failures.render());
         }
     }
-    println!();
-    println!(
+    outln!();
+    outln!(
         "elasticity = (dm/m)/(dp/p): central difference of the steps p*(1+h) and p*(1-h), h = {}; up/down: one-sided; asymmetry = (up - down)/(|up| + |down|)",
         fmt_num(plan.step, 4)
     );
     if !plan.skipped.is_empty() {
         let keys: Vec<&str> = plan.skipped.iter().map(|s| s.key.as_str()).collect();
-        println!(
+        outln!(
             "skipped ({}, zero or integer values): {}",
             keys.len(),
             keys.join(", ")
         );
     }
-    println!(
+    outln!(
         "parameters: {}, perturbed cases: {}, failed: {}",
         plan.parameters.len(),
         plan.len(),

@@ -33,10 +33,6 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     } else {
         show_text(&args.file).with_context(context)?
     };
-    // A closed pipe (`yawdyn show f.h5 | head`) is not an error.
-    use std::io::Write;
-    match std::io::stdout().write_all(text.as_bytes()) {
-        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => Err(e.into()),
-        _ => Ok(Outcome::Success),
-    }
+    super::stdout::write_bytes(text.as_bytes());
+    Ok(Outcome::Success)
 }

@@ -264,16 +264,16 @@ fn single(args: &Args, case: &Case) -> anyhow::Result<Outcome> {
                     "largest_lat_accel_g": largest.map(|l| l / GRAVITY),
                     "message": e.to_string(),
                 });
-                println!("{}", serde_json::to_string_pretty(&out)?);
+                outln!("{}", serde_json::to_string_pretty(&out)?);
             } else {
-                println!("{}", v.name);
-                println!("NO TRIM: {e}");
+                outln!("{}", v.name);
+                outln!("NO TRIM: {e}");
             }
             return Ok(Outcome::Failed);
         }
     };
     if args.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&report_json(v, &report))?
         );
@@ -336,14 +336,14 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
     let n = |x: f64| fmt_num(x, 4);
     let (yaw_rate, sideslip) = yawdyn::stability::yaw_rate_and_sideslip(t);
     let e = yawdyn::model::evaluate(v, &t.state, &t.commands);
-    println!("{}", v.name);
+    outln!("{}", v.name);
     if t.target.long_accel != 0.0 {
-        println!(
+        outln!(
             "note: ax = {} g is not zero, so the speed is frozen as a parameter: a quasi-steady point, not an equilibrium",
             n(t.target.long_accel / GRAVITY)
         );
     }
-    println!();
+    outln!();
     let mut tab = Table::new(["trim", "value", "unit"]);
     tab.row(["speed", &n(t.target.speed * 3.6), "km/h"]);
     tab.row([
@@ -405,8 +405,8 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
         "deg/g",
     ]);
     tab.row(["trim residual (scaled)", &fmt_num(t.residual, 2), "1"]);
-    print!("{}", tab.render());
-    println!();
+    out!("{}", tab.render());
+    outln!();
     let mut w = Table::new([
         "wheel",
         "fz [N]",
@@ -425,8 +425,8 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
             fmt_num(o.slip_ratio, 3),
         ]);
     }
-    print!("{}", w.render());
-    println!();
+    out!("{}", w.render());
+    outln!();
     let mut m = Table::new([
         "mode",
         "re [1/s]",
@@ -460,17 +460,17 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
             parts.join(", "),
         ]);
     }
-    print!("{}", m.render());
+    out!("{}", m.render());
     if let Some(y) = r.yaw_mode {
-        println!(
+        outln!(
             "yaw/sideslip mode: natural frequency {} Hz, damping ratio {}",
             n(y.frequency_hz),
             n(y.damping_ratio)
         );
     }
-    println!();
+    outln!();
     if r.stable {
-        println!(
+        outln!(
             "verdict: STABLE (all {} eigenvalues have real part <= {} 1/s; largest {} 1/s)",
             r.eigenvalues.len(),
             UNSTABLE_REAL_PART,
@@ -482,13 +482,13 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
             .iter()
             .filter(|l| l.re > UNSTABLE_REAL_PART)
             .count();
-        println!(
+        outln!(
             "verdict: UNSTABLE ({count} eigenvalue(s) with real part > {} 1/s; largest {} 1/s)",
             UNSTABLE_REAL_PART,
             fmt_num(r.max_real_part, 4)
         );
     }
-    println!(
+    outln!(
         "(trim + linearisation + eigen-analysis took {:.2} ms)",
         1e3 * elapsed
     );
@@ -496,9 +496,12 @@ fn print_report(v: &Vehicle, r: &StabilityReport, elapsed: f64) {
 
 fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow::Result<Outcome> {
     // Output paths are checked before the grid is computed.
-    for out in [&args.out, &args.plot].into_iter().flatten() {
-        yawdyn::results::check_output_path(out)?;
-    }
+    let outputs: Vec<&std::path::Path> = [&args.out, &args.plot]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    super::check_outputs(&outputs)?;
     let n0 = vary[0].values.len();
     let n1 = vary.get(1).map_or(1, |a| a.values.len());
     let mut cases = Vec::with_capacity(n0 * n1);
@@ -633,12 +636,12 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
             "axes": vary.iter().map(|a| json!({"key": a.key, "unit": unit_of(&a.key), "values": a.values})).collect::<Vec<_>>(),
             "stable_points": stable, "unstable_points": unstable, "no_trim_points": no_trim,
             "points": pts});
-        println!("{}", serde_json::to_string_pretty(&out)?);
+        outln!("{}", serde_json::to_string_pretty(&out)?);
         return Ok(Outcome::Success);
     }
-    println!("{}", map.vehicle_name);
-    println!("fixed: {}", map.description);
-    println!();
+    outln!("{}", map.vehicle_name);
+    outln!("fixed: {}", map.description);
+    outln!();
     let head = |a: &Vary| {
         let u = unit_of(&a.key);
         if u.is_empty() {
@@ -694,9 +697,9 @@ fn grid(args: &Args, inputs: &Inputs<'_>, point: Point, vary: &[Vary]) -> anyhow
         ]);
         t.row(row);
     }
-    print!("{}", t.render());
-    println!();
-    println!(
+    out!("{}", t.render());
+    outln!();
+    outln!(
         "{} points: {stable} stable, {unstable} unstable, {no_trim} without trim; computed in {:.3} s",
         map.points.len(),
         elapsed

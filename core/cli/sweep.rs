@@ -84,6 +84,9 @@ struct Config {
     limits: Limits,
 }
 
+/// Most worker threads `--jobs` accepts.
+const MAX_JOBS: usize = 1024;
+
 /// Runs `yawdyn sweep`.
 pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     args.script = resolve_script(&args.script)?;
@@ -98,7 +101,12 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         &config.script,
         keys.iter().map(String::as_str).chain(sets),
     )?;
-    yawdyn::results::check_output_path(&config.out)?;
+    // The script and vehicle are inputs that no output may replace.
+    yawdyn::output::note_input(&config.script);
+    if let Some(vehicle) = &config.vehicle {
+        yawdyn::output::note_input(vehicle);
+    }
+    super::check_outputs(&[config.out.as_path()])?;
     // Units of the manoeuvre parameters, from `param(name, default, unit)`.
     let units = manoeuvre_parameter_units(text, &config.script)?;
     for axis in &mut config.spec.grid.axes {
@@ -127,7 +135,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     let report = run_sweep(&config.spec, &options, &runner, &config.out)?;
     progress.finish();
     if config.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&report_json(&config, &report))?
         );
@@ -171,6 +179,11 @@ fn check(args: Args) -> anyhow::Result<Config> {
     };
     let jobs = match args.jobs {
         Some(0) => return Err(bad_input("--jobs 0: need at least one worker thread")),
+        Some(n) if n > MAX_JOBS => {
+            return Err(bad_input(format!(
+                "--jobs {n}: at most {MAX_JOBS} worker threads (more only compete for the processors)"
+            )));
+        }
         Some(n) => n,
         None => std::thread::available_parallelism().map_or(1, |n| n.get()),
     };
@@ -319,7 +332,11 @@ fn preflight(config: &Config) -> anyhow::Result<Option<PathBuf>> {
                     } else {
                         "vehicle file:"
                     };
-                    let message = i.message.replace("(from <--set>) ", "");
+                    let message = i
+                        .message
+                        .strip_prefix("(override `")
+                        .and_then(|m| m.split_once("`) "))
+                        .map_or(i.message.as_str(), |(_, rest)| rest);
                     format!("{option} {}: {message}", i.path)
                 })
                 .collect();
@@ -431,22 +448,22 @@ fn print_report(config: &Config, report: &SweepReport) {
         });
         table.row(cells);
     }
-    print!("{}", table.render());
+    out!("{}", table.render());
     if s.len() > MAX_ROWS {
-        println!(
+        outln!(
             "... {} more cases not shown (all are in /summary of {})",
             s.len() - MAX_ROWS,
             report.out.display()
         );
     }
     if s.metrics.len() > MAX_METRICS {
-        println!(
+        outln!(
             "... {} more metrics not shown",
             s.metrics.len() - MAX_METRICS
         );
     }
     let count = |status: CaseStatus| s.status.iter().filter(|&&x| x == status).count();
-    println!(
+    outln!(
         "cases: {} (shard {} of {} in the grid), completed: {}, criteria failed: {}, run failed: {}, error: {}",
         s.len(),
         config.shard,
@@ -456,7 +473,7 @@ fn print_report(config: &Config, report: &SweepReport) {
         count(CaseStatus::Failed),
         count(CaseStatus::Error)
     );
-    println!(
+    outln!(
         "wall time: {} s on {} threads (writing {} s CPU); written to {}",
         fmt_num(report.wall_time_s, 3),
         config.jobs,

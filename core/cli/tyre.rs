@@ -142,7 +142,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
             "elapsed_s": elapsed,
             "axles": inspected.iter().map(axle_json).collect::<Vec<_>>(),
         });
-        println!("{}", serde_json::to_string_pretty(&out)?);
+        outln!("{}", serde_json::to_string_pretty(&out)?);
     } else {
         print_table(&vehicle, &inspected, elapsed);
     }
@@ -166,11 +166,11 @@ const ROWS: [Row; 6] = [
 ];
 
 fn print_table(v: &Vehicle, inspected: &[Inspected], elapsed: f64) {
-    println!("{}", v.name);
-    println!(
+    outln!("{}", v.name);
+    outln!(
         "tyre inspection with the model's force function: the axle's camber (left wheel), road friction and combined-slip method"
     );
-    println!();
+    outln!();
     let mut headers = vec!["quantity".to_string()];
     for i in inspected {
         let name = axle_name(i.axle);
@@ -205,9 +205,9 @@ fn print_table(v: &Vehicle, inspected: &[Inspected], elapsed: f64) {
         t.row(row);
     }
     t.row(setup_row);
-    print!("{}", t.render());
-    println!();
-    println!(
+    out!("{}", t.render());
+    outln!();
+    outln!(
         "Peaks on the positive-slip side at zero other slip; stiffnesses are the slopes at zero slip. Computed in {:.3} s.",
         elapsed
     );
@@ -255,8 +255,10 @@ fn output(dir: &Path, axle: usize, stem: &str, ext: &str) -> anyhow::Result<Path
 
 /// Writes the CSV files of one axle into `dir`.
 fn write_csv(dir: &Path, i: &Inspected) -> anyhow::Result<()> {
-    let write = |path: PathBuf, text: String| {
-        std::fs::write(&path, text).with_context(|| format!("writing {}", path.display()))
+    let write = |path: PathBuf, text: String| -> anyhow::Result<()> {
+        yawdyn::output::write_atomically(&path, |temp| {
+            std::fs::write(temp, &text).with_context(|| format!("writing {}", path.display()))
+        })
     };
     write(
         output(dir, i.axle, "curves", "csv")?,

@@ -30,12 +30,12 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     let vehicle = load_vehicle(&args.file, &overrides)?;
     let s = summarize(&vehicle);
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&s)?);
+        outln!("{}", serde_json::to_string_pretty(&s)?);
         return Ok(Outcome::Success);
     }
     let n = |v: f64| fmt_num(v, 4);
     let opt = |v: Option<f64>| v.map_or_else(|| "-".to_string(), n);
-    println!("{}", s.name);
+    outln!("{}", s.name);
     let mut t = Table::new(["quantity", "value", "unit"]);
     t.row(["total mass", &n(s.mass_kg), "kg"]);
     t.row(["wheelbase", &n(s.wheelbase_m), "m"]);
@@ -73,27 +73,27 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     ]);
     t.row(["downforce at 100 km/h", &n(s.downforce_at_100_kph_n), "N"]);
     t.row(["front torque share", &n(s.front_share), "1"]);
-    print!("{}", t.render());
+    out!("{}", t.render());
     if !s.drive_axles.is_empty() {
-        println!();
-        print!("{}", drive_table(&s).render());
+        outln!();
+        out!("{}", drive_table(&s).render());
     }
     if let Some(store) = &s.store {
-        println!();
-        print!("{}", store_table(store).render());
+        outln!();
+        out!("{}", store_table(store).render());
     }
-    println!();
-    println!(
+    outln!();
+    outln!(
         "Linear figures follow Gillespie, Fundamentals of Vehicle Dynamics, ch. 6, at static load;"
     );
-    println!(
+    outln!(
         "\"power-limited above\" is the speed where eta*P/v (with the fuel-flow and store limits) falls below mu*Fz;"
     );
-    println!(
+    outln!(
         "\"torque limit ends\" is the speed above which power, fuel flow or the store limits the unit."
     );
     if s.drive_axles.len() == 2 {
-        println!(
+        outln!(
             "Spare torque of one axle goes to the other: {} (drive.spare_torque_to_other_axle).",
             if s.spare_torque_to_other_axle {
                 "yes"

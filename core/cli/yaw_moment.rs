@@ -64,6 +64,12 @@ pub struct Args {
 pub fn run(args: Args) -> anyhow::Result<Outcome> {
     let overrides = parse_overrides(&args.sets)?;
     let vehicle = load_vehicle(&args.vehicle, &overrides)?;
+    let outputs: Vec<&std::path::Path> = [&args.out, &args.plot]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    super::check_outputs(&outputs)?;
     let deg = |option: &str, text: &str| -> anyhow::Result<Vec<f64>> {
         Ok(parse_values(option, text)?
             .into_iter()
@@ -112,7 +118,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
     }
     if args.json {
         let out = summary_json(&vehicle, &args, &diagrams, elapsed);
-        println!("{}", serde_json::to_string_pretty(&out)?);
+        outln!("{}", serde_json::to_string_pretty(&out)?);
     } else {
         print_tables(&vehicle, &args, &diagrams, elapsed);
     }
@@ -155,15 +161,15 @@ fn opt(x: Option<f64>, digits: usize) -> String {
 
 fn print_tables(v: &Vehicle, args: &Args, diagrams: &[YawMomentDiagram], elapsed: f64) {
     let first = &diagrams[0];
-    println!("{}", v.name);
-    println!(
+    outln!("{}", v.name);
+    outln!(
         "yaw-moment diagram at {} km/h, {}; {} sideslip x {} steer points",
         fmt_num(args.speed_kph, 4),
         case_text(first.condition.longitudinal),
         first.sideslip.len(),
         first.steer.len()
     );
-    println!();
+    outln!();
     let mut t = Table::new([
         "front share",
         "solved",
@@ -186,9 +192,9 @@ fn print_tables(v: &Vehicle, args: &Args, diagrams: &[YawMomentDiagram], elapsed
                 .to_string(),
         ]);
     }
-    print!("{}", t.render());
+    out!("{}", t.render());
     if diagrams.len() == 1 {
-        println!();
+        outln!();
         let mut trim = Table::new([
             "trim ay [g]",
             "steer [deg]",
@@ -209,10 +215,10 @@ fn print_tables(v: &Vehicle, args: &Args, diagrams: &[YawMomentDiagram], elapsed
                 fmt_num(p.lat_accel_per_steer.to_radians() / GRAVITY, 4),
             ]);
         }
-        print!("{}", trim.render());
+        out!("{}", trim.render());
     }
-    println!();
-    println!(
+    outln!();
+    outln!(
         "ISO 8855 signs: N positive nose-left; limit balance positive = oversteer moment; \
          dN/dbeta positive = directionally stable. Computed in {:.3} s.",
         elapsed

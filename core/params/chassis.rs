@@ -83,30 +83,81 @@ pub struct Chassis {
     pub pitch_damping: f64,
 }
 
+/// Plausible ranges of the chassis values, wide enough for anything from a
+/// kart to a heavy truck (common practice, not from a source): outside them
+/// a value is a typing error, and the model's numbers would be meaningless
+/// or its equations too stiff to integrate.
+mod plausible {
+    /// Mass, kg.
+    pub const MASS: (f64, f64) = (50.0, 1.0e5);
+    /// Any moment of inertia of the body, kg·m².
+    pub const INERTIA: (f64, f64) = (1.0, 1.0e7);
+    /// Radius of gyration √(I/m) of the body about any axis, m.
+    pub const GYRATION_RADIUS: (f64, f64) = (0.05, 10.0);
+    /// Wheelbase, m.
+    pub const WHEELBASE: (f64, f64) = (0.5, 20.0);
+    /// Track widths, m.
+    pub const TRACK: (f64, f64) = (0.3, 5.0);
+    /// CG height, m.
+    pub const CG_HEIGHT: (f64, f64) = (0.05, 5.0);
+    /// Roll and pitch stiffness, N·m/rad.
+    pub const STIFFNESS: (f64, f64) = (1.0e2, 1.0e9);
+    /// Roll and pitch damping, N·m·s/rad (zero allowed).
+    pub const DAMPING: (f64, f64) = (0.0, 1.0e8);
+    /// Largest damping ratio ζ = c / (2·√(K·I)) of the roll and pitch modes:
+    /// passenger cars lie near 0.2–0.7; beyond 5 the mode is a stiff first-order
+    /// lag that only slows integration.
+    pub const DAMPING_RATIO_MAX: f64 = 5.0;
+}
+
 impl Chassis {
     /// Checks `[chassis]` (problems pushed with their key paths) and builds the group.
     pub(crate) fn build(c: &ChassisFile, checks: &mut Checks) -> Self {
+        use plausible::*;
+        checks.plausible("chassis.mass", c.mass, MASS, "kg");
         for (k, v) in [
-            ("mass", c.mass),
             ("yaw_inertia", c.yaw_inertia),
             ("roll_inertia", c.roll_inertia),
             ("pitch_inertia", c.pitch_inertia),
-            ("wheelbase", c.wheelbase),
-            ("cg_height", c.cg_height),
-            ("track_front", c.track_front),
-            ("track_rear", c.track_rear),
+        ] {
+            let path = format!("chassis.{k}");
+            checks.plausible(&path, v, INERTIA, "kg*m^2");
+            // The inertia must fit the mass: I = m·k² with a plausible k.
+            let (lo, hi) = GYRATION_RADIUS;
+            let radius = (v / c.mass).sqrt();
+            let mass_ok = c.mass.is_finite() && c.mass >= MASS.0 && c.mass <= MASS.1;
+            let inertia_ok = v.is_finite() && v >= INERTIA.0 && v <= INERTIA.1;
+            if mass_ok && inertia_ok && !(lo..=hi).contains(&radius) {
+                checks.push(
+                    &path,
+                    format!(
+                        "{} kg*m^2 with mass {} kg means a radius of gyration of {radius:.3} m, \
+                         outside the plausible range [{lo}, {hi}] m: allowed [{:.4}, {:.4e}] kg*m^2",
+                        super::checks::short(v),
+                        c.mass,
+                        c.mass * lo * lo,
+                        c.mass * hi * hi
+                    ),
+                );
+            }
+        }
+        checks.plausible("chassis.wheelbase", c.wheelbase, WHEELBASE, "m");
+        checks.plausible("chassis.cg_height", c.cg_height, CG_HEIGHT, "m");
+        checks.plausible("chassis.track_front", c.track_front, TRACK, "m");
+        checks.plausible("chassis.track_rear", c.track_rear, TRACK, "m");
+        for (k, v) in [
             ("roll_stiffness_front", c.roll_stiffness_front),
             ("roll_stiffness_rear", c.roll_stiffness_rear),
             ("pitch_stiffness", c.pitch_stiffness),
         ] {
-            checks.positive(&format!("chassis.{k}"), v);
+            checks.plausible(&format!("chassis.{k}"), v, STIFFNESS, "N*m/rad");
         }
         for (k, v) in [
             ("roll_damping_front", c.roll_damping_front),
             ("roll_damping_rear", c.roll_damping_rear),
             ("pitch_damping", c.pitch_damping),
         ] {
-            checks.non_negative(&format!("chassis.{k}"), v);
+            checks.plausible(&format!("chassis.{k}"), v, DAMPING, "N*m*s/rad");
         }
         if c.wheelbase > 0.0 && !(c.cg_to_front_axle > 0.0 && c.cg_to_front_axle < c.wheelbase) {
             checks.push(
@@ -147,10 +198,57 @@ impl Chassis {
             pitch_stiffness: c.pitch_stiffness,
             pitch_damping: c.pitch_damping,
         };
+        // Damping ratios of roll and pitch, each as a single-degree-of-freedom
+        // oscillator: ζ = c / c_c with critical damping c_c = 2·√(K·I)
+        // (Thomson & Dahleh, Theory of Vibration with Applications, ch. 2,
+        // viscously damped free vibration; from memory). Roll uses the net stiffness after the overturning
+        // moment m·g·H.
+        let mass_ok = (MASS.0..=MASS.1).contains(&built.mass);
+        let net_roll =
+            built.total_roll_stiffness() - built.mass * super::GRAVITY * built.roll_arm();
+        let roll_damping = built.roll_damping[FRONT] + built.roll_damping[REAR];
+        for (path, what, damping, stiffness, inertia) in [
+            (
+                "chassis.roll_damping_front",
+                "roll damping (front + rear)",
+                roll_damping,
+                net_roll,
+                built.roll_inertia,
+            ),
+            (
+                "chassis.pitch_damping",
+                "pitch damping",
+                built.pitch_damping,
+                built.pitch_stiffness,
+                built.pitch_inertia,
+            ),
+        ] {
+            let zeta = damping / (2.0 * (stiffness * inertia).sqrt());
+            let inertia_ok = (INERTIA.0..=INERTIA.1).contains(&inertia);
+            if mass_ok
+                && inertia_ok
+                && stiffness > 0.0
+                && zeta.is_finite()
+                && zeta > DAMPING_RATIO_MAX
+            {
+                let most = DAMPING_RATIO_MAX * 2.0 * (stiffness * inertia).sqrt();
+                checks.push(
+                    path,
+                    format!(
+                        "{what} {damping} N*m*s/rad gives a damping ratio of {zeta:.3} with \
+                         stiffness {stiffness:.0} N*m/rad and inertia {inertia} kg*m^2; \
+                         at most {DAMPING_RATIO_MAX} is accepted (damping up to {most:.0} N*m*s/rad)"
+                    ),
+                );
+            }
+        }
         // The roll spring must hold the body up against its own overturning
         // moment m·g·H·φ (Gillespie, Fundamentals of Vehicle Dynamics, ch. 8).
         let overturning = built.mass * super::GRAVITY * built.roll_arm();
-        if built.total_roll_stiffness() <= overturning && built.total_roll_stiffness() > 0.0 {
+        if mass_ok
+            && built.total_roll_stiffness() <= overturning
+            && built.total_roll_stiffness() > 0.0
+        {
             checks.push(
                 "chassis.roll_stiffness_front",
                 format!(

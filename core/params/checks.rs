@@ -4,6 +4,17 @@
 
 use super::issue::ParamIssue;
 
+/// A number as written in messages: exponent notation when very large or
+/// small (1.7e308, not 309 digits).
+pub(crate) fn short(value: f64) -> String {
+    let size = value.abs();
+    if value.is_finite() && size != 0.0 && !(1e-3..1e7).contains(&size) {
+        format!("{value:e}")
+    } else {
+        format!("{value}")
+    }
+}
+
 /// The problems found so far in one vehicle file.
 pub(crate) struct Checks<'a> {
     issues: &'a mut Vec<ParamIssue>,
@@ -38,6 +49,22 @@ impl<'a> Checks<'a> {
     pub(crate) fn within(&mut self, path: &str, value: f64, lo: f64, hi: f64) {
         if !(value.is_finite() && value >= lo && value <= hi) {
             self.push(path, format!("must lie in [{lo}, {hi}], got {value}"));
+        }
+    }
+
+    /// `value` must be finite and lie in the physically plausible range
+    /// [lo, hi] (in `unit`); the message gives the range.
+    pub(crate) fn plausible(&mut self, path: &str, value: f64, (lo, hi): (f64, f64), unit: &str) {
+        if !(value.is_finite() && value >= lo && value <= hi) {
+            self.push(
+                path,
+                format!(
+                    "{} {unit} is outside the plausible range [{}, {}] {unit}",
+                    short(value),
+                    short(lo),
+                    short(hi)
+                ),
+            );
         }
     }
 

@@ -39,6 +39,7 @@ pub fn read_text_file(path: &Path, extension: Option<&str>, max_bytes: u64) -> i
     // Look before opening: opening a FIFO for reading would block.
     regular(&std::fs::metadata(path)?, max_bytes).map_err(refuse)?;
     let file = File::open(path)?;
+    crate::output::note_input(path);
     // The file opened may differ from the one looked at (replaced between).
     regular(&file.metadata()?, max_bytes).map_err(refuse)?;
     let mut bytes = Vec::new();
@@ -47,9 +48,11 @@ pub fn read_text_file(path: &Path, extension: Option<&str>, max_bytes: u64) -> i
         return Err(refuse(format!("larger than {max_bytes} bytes")));
     }
     String::from_utf8(bytes).map_err(|e| {
+        let at = e.utf8_error().valid_up_to();
+        let valid = std::str::from_utf8(&e.as_bytes()[..at]).unwrap_or_default();
+        let (line, column) = super::load::line_column(valid, valid.len());
         refuse(format!(
-            "not UTF-8 text (invalid byte at offset {})",
-            e.utf8_error().valid_up_to()
+            "not UTF-8 text: invalid byte at line {line}, column {column} (byte offset {at})"
         ))
     })
 }

@@ -77,15 +77,7 @@ pub fn load_vehicle_text(
     };
     let mut table: toml::Table = match toml::from_str(text) {
         Ok(t) => t,
-        Err(e) => {
-            let line = e.span().map(|s| line_of_offset(text, s.start));
-            let issue = ParamIssue {
-                path: String::new(),
-                line,
-                message: format!("not valid TOML: {}", e.message()),
-            };
-            return Err(invalid(vec![issue]));
-        }
+        Err(e) => return Err(invalid(vec![syntax_issue(text, &e)])),
     };
     let lines = KeyLines::new(text);
     let mut issues = Vec::new();
@@ -103,8 +95,11 @@ pub fn load_vehicle_text(
     }
     let (file, mut schema_issues) = deserialize_collecting(table);
     for issue in &mut schema_issues {
-        if override_paths.iter().any(|p| p == &issue.path) {
-            issue.message = format!("(from {OVERRIDE_SOURCE}) {}", issue.message);
+        // A problem of an override (`--set`, `--vary`, the script's `set`)
+        // names the override itself, whichever option gave it.
+        let from = overrides.iter().rev().find(|o| o.path == issue.path);
+        if let Some(o) = from.filter(|o| override_paths.contains(&o.path)) {
+            issue.message = format!("(override `{}`) {}", o.to_text(), issue.message);
         } else {
             issue.line = lines.line_of(&issue.path);
         }
@@ -153,14 +148,6 @@ fn set_path(table: &mut toml::Table, path: &str, value: toml::Value) -> Result<(
     Ok(())
 }
 
-fn remove_path(table: &mut toml::Table, path: &[String]) {
-    if let Some((last, parents)) = path.split_last() {
-        if let Some(t) = walk_mut(table, parents) {
-            t.remove(last);
-        }
-    }
-}
-
 fn walk_mut<'a>(table: &'a mut toml::Table, path: &[String]) -> Option<&'a mut toml::Table> {
     let mut current = table;
     for part in path {
@@ -207,10 +194,19 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
             }
             let expected = backticked(rest.split_once("expected").map_or("", |x| x.1));
             issues.push(ParamIssue::new(
-                segments.join("."),
+                join_path(&segments),
                 format!("unknown key `{key}`{}", suggestion(&key, &expected)),
             ));
-            remove_path(&mut table, &segments);
+            // A misspelt key whose closest known key is absent is read as
+            // that key, so that it gives this one message rather than one per
+            // key it should have held.
+            let value =
+                walk_mut(&mut table, &segments[..segments.len() - 1]).and_then(|t| t.remove(&key));
+            if let (Some(value), Some(best)) = (value, closest(&key, &expected)) {
+                if let Some(parent) = walk_mut(&mut table, &segments[..segments.len() - 1]) {
+                    parent.entry(best).or_insert(value);
+                }
+            }
             continue;
         }
         if let Some(rest) = message.strip_prefix("missing field `") {
@@ -218,14 +214,35 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
             segments.push(key.clone());
             if !patched.iter().any(|(p, _)| p == &segments) {
                 issues.push(ParamIssue::new(
-                    segments.join("."),
+                    join_path(&segments),
                     format!("missing key `{key}`"),
                 ));
             }
+        } else if let Some(array) = array_of_tables(&table, &segments) {
+            // `[[chassis]]` where one `[chassis]` table is wanted: one
+            // message, and the first table read in its place.
+            issues.push(ParamIssue::new(
+                array.clone(),
+                format!(
+                    "written as an array of tables (`[[{array}]]`); write it once as a table, `[{array}]`"
+                ),
+            ));
+            let parts: Vec<String> = array.split('.').map(str::to_string).collect();
+            let (last, parents) = parts.split_last().unwrap_or((&array, &[]));
+            let Some(parent) = walk_mut(&mut table, parents) else {
+                return (None, issues);
+            };
+            let first = match parent.get(last) {
+                Some(toml::Value::Array(items)) => items.first().cloned(),
+                _ => None,
+            };
+            parent.insert(
+                last.clone(),
+                first.unwrap_or(toml::Value::Table(toml::Table::new())),
+            );
+            continue;
         } else if !patched.iter().any(|(p, _)| p == &segments) {
-            let friendly = message
-                .replace("invalid type:", "wrong type:")
-                .replace("unknown variant", "unknown value");
+            let friendly = friendly_message(&message);
             let expected = backticked(message.split_once("expected").map_or("", |x| x.1));
             let bad = message.split('`').nth(1).unwrap_or_default().to_string();
             let hint = if message.starts_with("unknown variant") {
@@ -234,7 +251,7 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
                 String::new()
             };
             issues.push(ParamIssue::new(
-                segments.join("."),
+                join_path(&segments),
                 format!("{friendly}{hint}"),
             ));
         }
@@ -266,6 +283,13 @@ fn deserialize_collecting(mut table: toml::Table) -> (Option<VehicleFile>, Vec<P
             None => return (None, issues),
         }
     }
+    issues.push(ParamIssue::new(
+        "",
+        format!(
+            "stopped looking after {MAX_ROUNDS} rounds of problems; there may be more: \
+             fix these and load the file again"
+        ),
+    ));
     (None, issues)
 }
 
@@ -286,6 +310,119 @@ fn backticked(text: &str) -> Vec<String> {
         .filter(|(i, _)| i % 2 == 1)
         .map(|(_, s)| s.to_string())
         .collect()
+}
+
+/// serde's message in the words of the file: TOML kinds of value instead of
+/// Rust type names (`a table`, not `struct ChassisFile`; `a number`, not
+/// `f64`).
+fn friendly_message(message: &str) -> String {
+    if let Some(rest) = message.strip_prefix("invalid type: ") {
+        let (found, expected) = rest.split_once(", expected ").unwrap_or((rest, ""));
+        return format!(
+            "wrong type: {} where {} is expected",
+            toml_kind(found),
+            toml_kind(expected)
+        );
+    }
+    if let Some(rest) = message.strip_prefix("invalid value: ") {
+        let (found, expected) = rest.split_once(", expected ").unwrap_or((rest, ""));
+        return format!(
+            "invalid value: {} where {} is expected",
+            toml_kind(found),
+            toml_kind(expected)
+        );
+    }
+    message.replace("unknown variant", "unknown value")
+}
+
+/// A kind of value or an expected type in serde's words, as a TOML kind.
+fn toml_kind(text: &str) -> String {
+    let text = text.trim();
+    let quoted = |t: &str| t.split('`').nth(1).map(str::to_string);
+    if text.contains("variant") {
+        return "one of the named values".to_string();
+    }
+    if text.starts_with("map") || text.starts_with("struct ") || text == "a map" {
+        "a table".to_string()
+    } else if text.starts_with("sequence")
+        || text.starts_with("a sequence")
+        || text.starts_with("tuple")
+    {
+        "an array".to_string()
+    } else if text.starts_with("string") || text == "a string" || text == "a borrowed string" {
+        match quoted(text).or_else(|| text.split('"').nth(1).map(str::to_string)) {
+            Some(s) => format!("the text \"{s}\""),
+            None => "text".to_string(),
+        }
+    } else if text.starts_with("floating point") || text.starts_with("integer") {
+        match quoted(text) {
+            Some(n) => format!("the number {n}"),
+            None => "a number".to_string(),
+        }
+    } else if text.starts_with("boolean") || text == "a boolean" {
+        "true or false".to_string()
+    } else if matches!(text, "f64" | "f32" | "a float" | "a number") {
+        "a number".to_string()
+    } else if matches!(
+        text,
+        "u8" | "u16"
+            | "u32"
+            | "u64"
+            | "u128"
+            | "usize"
+            | "i8"
+            | "i16"
+            | "i32"
+            | "i64"
+            | "i128"
+            | "isize"
+    ) {
+        "a whole number".to_string()
+    } else if text.contains("variant") || text.starts_with("enum ") {
+        "one of the named values".to_string()
+    } else {
+        text.to_string()
+    }
+}
+
+/// The key path of an array of tables on the way to `segments` (an error
+/// inside `chassis[0]` when `chassis` is written `[[chassis]]`).
+fn array_of_tables(table: &toml::Table, segments: &[String]) -> Option<String> {
+    let mut current = table;
+    let mut path = Vec::new();
+    for s in segments {
+        path.push(s.clone());
+        match current.get(s)? {
+            toml::Value::Table(t) => current = t,
+            toml::Value::Array(items) if items.iter().all(toml::Value::is_table) => {
+                return Some(path.join("."));
+            }
+            _ => return None,
+        }
+    }
+    None
+}
+
+/// The candidate closest to `key`, if close enough to be a misspelling.
+fn closest(key: &str, candidates: &[String]) -> Option<String> {
+    candidates
+        .iter()
+        .map(|c| (strsim::jaro_winkler(key, c), c))
+        .filter(|(s, _)| *s > 0.85)
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c.clone())
+}
+
+/// A key path from its segments: `chassis.mass`, `tyre.front`, `chassis[0]`.
+fn join_path(segments: &[String]) -> String {
+    let mut path = String::new();
+    for s in segments {
+        if !path.is_empty() && !s.starts_with('[') {
+            path.push('.');
+        }
+        path.push_str(s);
+    }
+    path
 }
 
 /// "; did you mean `x`?" for the closest candidate, plus the full list when short.
@@ -313,8 +450,49 @@ pub(crate) fn suggestion(key: &str, candidates: &[String]) -> String {
     }
 }
 
-fn line_of_offset(text: &str, offset: usize) -> usize {
-    text[..offset.min(text.len())].matches('\n').count() + 1
+/// A TOML syntax error as an issue: the key path of the line (from the
+/// nearest table header and the key on that line), line and column, and
+/// for a duplicate key the key's name.
+fn syntax_issue(text: &str, error: &toml::de::Error) -> ParamIssue {
+    let message = error.message().trim().to_string();
+    let Some(span) = error.span() else {
+        return ParamIssue::new("", format!("not valid TOML: {message}"));
+    };
+    let (line, column) = line_column(text, span.start);
+    let path = KeyLines::new(text)
+        .entries
+        .iter()
+        .rev()
+        .find(|(_, l)| *l <= line)
+        .map(|(k, _)| k.clone())
+        .unwrap_or_default();
+    let found = text
+        .get(span.clone())
+        .map(str::trim)
+        .filter(|s| !s.is_empty() && s.len() < 80);
+    let detail = match found {
+        Some(key) if message.contains("duplicate key") => {
+            format!("duplicate key `{}`", key.trim_matches('"'))
+        }
+        _ => message,
+    };
+    ParamIssue {
+        path,
+        line: Some(line),
+        message: format!("not valid TOML (column {column}): {detail}"),
+    }
+}
+
+/// 1-based line and column (in characters) of byte `offset` of `text`.
+pub(crate) fn line_column(text: &str, offset: usize) -> (usize, usize) {
+    let mut offset = offset.min(text.len());
+    while !text.is_char_boundary(offset) {
+        offset -= 1;
+    }
+    let before = &text[..offset];
+    let line = before.matches('\n').count() + 1;
+    let column = before.rsplit('\n').next().unwrap_or("").chars().count() + 1;
+    (line, column)
 }
 
 /// Where each dotted key path appears in the file text (a light scan of

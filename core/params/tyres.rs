@@ -65,16 +65,25 @@ pub struct AxleTyre {
 impl AxleTyre {
     /// Checks `[tyre.<axle>]` (`axle` = `front` or `rear`) and builds the group.
     pub(crate) fn build(axle: &str, t: &TyreFile, checks: &mut Checks) -> Self {
-        for (k, v) in [
-            ("rolling_radius", t.rolling_radius),
-            ("wheel_inertia", t.wheel_inertia),
-            ("relaxation_length_lateral", t.relaxation_length_lateral),
+        // Plausible ranges, wide enough for kart to truck wheels (common
+        // practice, not from a source).
+        for (k, v, range, unit) in [
+            ("rolling_radius", t.rolling_radius, (0.1, 2.0), "m"),
+            ("wheel_inertia", t.wheel_inertia, (0.01, 500.0), "kg*m^2"),
+            (
+                "relaxation_length_lateral",
+                t.relaxation_length_lateral,
+                (0.01, 5.0),
+                "m",
+            ),
             (
                 "relaxation_length_longitudinal",
                 t.relaxation_length_longitudinal,
+                (0.01, 5.0),
+                "m",
             ),
         ] {
-            checks.positive(&format!("tyre.{axle}.{k}"), v);
+            checks.plausible(&format!("tyre.{axle}.{k}"), v, range, unit);
         }
         checks.non_negative(
             &format!("tyre.{axle}.rolling_resistance"),

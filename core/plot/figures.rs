@@ -110,6 +110,14 @@ pub fn file_format(path: &Path) -> Result<String, FigureError> {
         path: path.to_path_buf(),
         reason,
     };
+    // A regular file whose global heaps are sound (see `results::h5::heap`).
+    let meta = std::fs::metadata(path).map_err(|e| unknown(format!("cannot open: {e}")))?;
+    if !meta.is_file() {
+        return Err(unknown("not a regular file".into()));
+    }
+    crate::output::note_input(path);
+    crate::results::h5::heap::check_global_heaps(path)
+        .map_err(|why| unknown(format!("the file is damaged: {why}")))?;
     // No HDF5 file locking: see the note on `results::read_hdf5`'s opener.
     let mut builder = hdf5::File::with_options();
     builder.with_fapl(|fapl| fapl.file_locking(false));
@@ -119,10 +127,17 @@ pub fn file_format(path: &Path) -> Result<String, FigureError> {
     let attr = file
         .attr("format")
         .map_err(|_| unknown("no `format` attribute on the root group".into()))?;
+    crate::results::h5::check_before_read::<hdf5::types::VarLenUnicode>(&attr, meta.len())
+        .map_err(|why| unknown(format!("the `format` attribute {why}")))?;
+    if attr.ndim() != 0 {
+        return Err(unknown(
+            "the `format` attribute is not a single text".into(),
+        ));
+    }
     let format: hdf5::types::VarLenUnicode = attr
         .read_scalar()
         .map_err(|_| unknown("the `format` attribute is not a text scalar".into()))?;
-    Ok(format.as_str().to_string())
+    crate::results::h5::utf8_text(&format).map_err(|why| unknown(format!("format: {why}")))
 }
 
 /// A channel's samples, or [`FigureError::MissingChannel`] naming the closest.

@@ -539,11 +539,13 @@ pub(crate) mod tests {
             Err(PlotError::NonFinite { .. })
         ));
         assert!(!path.exists(), "no file is written on bad input");
-        let missing_dir = dir.path().join("no/such/dir/plot.svg");
+        // A directory that cannot be created: a file stands in its way.
+        std::fs::write(dir.path().join("file"), "x").unwrap();
+        let blocked = dir.path().join("file/dir/plot.svg");
         let ok = Series::new("ok", vec![0.0, 1.0], vec![0.0, 1.0]);
         assert!(matches!(
-            lines(&missing_dir, "t", &x, &y, &[ok]),
-            Err(PlotError::Io { .. })
+            lines(&blocked, "t", &x, &y, &[ok]),
+            Err(PlotError::Output(_))
         ));
     }
 

@@ -123,6 +123,9 @@ pub enum PlotError {
         #[source]
         source: std::io::Error,
     },
+    /// The output path is refused or cannot be written (see [`crate::output`]).
+    #[error(transparent)]
+    Output(#[from] crate::output::OutputError),
     /// The drawing library refused to draw (not expected for in-memory SVG).
     #[error("plot {path}: drawing failed: {message}")]
     Draw {
@@ -178,6 +181,7 @@ impl crate::error::Classify for PlotError {
         use crate::error::ErrorKind;
         match self {
             PlotError::Io { source, .. } => crate::error::io_kind(source),
+            PlotError::Output(e) => e.kind(),
             PlotError::Draw { .. } => ErrorKind::Failed,
             PlotError::Empty { .. }
             | PlotError::NonFinite { .. }

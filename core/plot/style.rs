@@ -98,9 +98,11 @@ where
     } else {
         text.into_bytes()
     };
-    std::fs::write(path, bytes).map_err(|source| PlotError::Io {
-        path: path.to_path_buf(),
-        source,
+    crate::output::write_atomically(path, |temp| {
+        std::fs::write(temp, bytes).map_err(|source| PlotError::Io {
+            path: path.to_path_buf(),
+            source,
+        })
     })
 }
 

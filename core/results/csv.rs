@@ -4,8 +4,8 @@ use std::fs;
 use std::io::{BufWriter, Write};
 use std::path::Path;
 
-use super::atomic::write_atomically;
 use super::{ResultsError, RunRecord};
+use crate::output::write_atomically;
 
 /// Write the channels of `record` to `path` as CSV: a row of names starting
 /// with `time`, a row of units starting with `s`, then one row per sample.

@@ -76,6 +76,9 @@ pub enum ResultsError {
         /// The version this build reads and writes.
         supported: i64,
     },
+    /// The output path is refused or cannot be written (see [`crate::output`]).
+    #[error(transparent)]
+    Output(#[from] crate::output::OutputError),
     /// The record cannot be stored, or the file's contents do not fit together
     /// (e.g. a channel shorter than `/time`, a missing listed channel).
     #[error("{}: {reason}", path.display())]
@@ -97,6 +100,7 @@ impl Classify for ResultsError {
         match self {
             ResultsError::Io { source, .. } => io_kind(source),
             ResultsError::Hdf5 { access, .. } => access.kind(),
+            ResultsError::Output(e) => e.kind(),
             ResultsError::NotResultsFile { .. }
             | ResultsError::UnsupportedVersion { .. }
             | ResultsError::Invalid { .. } => ErrorKind::BadInput,

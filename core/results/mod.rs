@@ -41,13 +41,13 @@
 //! (zero-length datasets). A reader rejects files whose `format` is not
 //! `yawdyn-results` and files with a `format_version` other than 1.
 //!
-//! Files are written under a hidden temporary name in the target directory
-//! (`.<name>.tmp-<pid>-<n>`) and renamed into place when complete, so a
-//! crash never leaves a half-written file under the final name. An output
-//! path that is a directory, or whose directory cannot be created or written,
-//! is refused before anything is written ([`check_output_path`] checks it
-//! ahead of a long run); these errors are bad input (exit code 2, see
-//! [`crate::error`]).
+//! Files are written through [`crate::output`]: under a hidden temporary
+//! name beside the target, renamed into place when complete, so a crash
+//! never leaves a half-written file under the final name. An output path
+//! that is a directory, a device, a FIFO, one of the command's inputs, or
+//! whose directory cannot be created or written, is refused before anything
+//! is written ([`check_output_path`] checks it ahead of a long run); these
+//! errors are bad input (exit code 2, see [`crate::error`]).
 //!
 //! # CSV export
 //!
@@ -55,15 +55,14 @@
 //! names, row 2 the units, then one row per sample. Numbers use Rust's
 //! shortest round-trip form (`NaN`, `inf` for non-finite values).
 
-pub(crate) mod atomic;
 mod csv;
 mod error;
 pub(crate) mod h5;
 mod record;
 mod summary;
 
-pub use atomic::check_output_path;
-pub(crate) use atomic::write_atomically;
+pub use crate::output::check_output_path;
+pub(crate) use crate::output::write_atomically;
 pub use csv::write_csv;
 pub use error::{Access, ResultsError};
 pub use h5::{read_format, read_hdf5, write_hdf5};

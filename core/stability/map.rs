@@ -172,6 +172,9 @@ pub enum MapError {
         /// What is wrong.
         reason: String,
     },
+    /// The output path is refused or cannot be written (see [`crate::output`]).
+    #[error(transparent)]
+    Output(#[from] crate::output::OutputError),
     /// File system error.
     #[error("{}: {source}", path.display())]
     Io {
@@ -194,6 +197,7 @@ impl crate::error::Classify for MapError {
     fn kind(&self) -> crate::error::ErrorKind {
         match self {
             MapError::Io { source, .. } => crate::error::io_kind(source),
+            MapError::Output(e) => e.kind(),
             MapError::Hdf5 { .. } | MapError::Invalid { .. } => crate::error::ErrorKind::BadInput,
         }
     }
@@ -226,10 +230,15 @@ impl Ctx<'_> {
             .map_err(self.h5(format!("writing attribute {name}")))
     }
     fn read_attr_str(&self, loc: &Location, name: &str) -> Result<String, MapError> {
-        loc.attr(name)
-            .and_then(|a| a.read_scalar::<VarLenUnicode>())
-            .map(|v| v.as_str().to_string())
-            .map_err(self.h5(format!("reading attribute {name}")))
+        let attr = loc
+            .attr(name)
+            .map_err(self.h5(format!("opening attribute {name}")))?;
+        self.check::<VarLenUnicode>(&attr, &format!("attribute {name}"))?;
+        let text = attr
+            .read_scalar::<VarLenUnicode>()
+            .map_err(self.h5(format!("reading attribute {name}")))?;
+        crate::results::h5::utf8_text(&text)
+            .map_err(|why| self.invalid(format!("attribute {name}: {why}")))
     }
     fn strs(&self, g: &Group, name: &str, items: &[&str]) -> Result<(), MapError> {
         let v = self.text_list(items)?;
@@ -240,10 +249,26 @@ impl Ctx<'_> {
             .map_err(self.h5(format!("writing dataset {name}")))
     }
     fn read_strs(&self, g: &Group, name: &str) -> Result<Vec<String>, MapError> {
-        g.dataset(name)
-            .and_then(|d| d.read_raw::<VarLenUnicode>())
-            .map(|v| v.iter().map(|s| s.as_str().to_string()).collect())
-            .map_err(self.h5(format!("reading dataset {name}")))
+        let ds = g
+            .dataset(name)
+            .map_err(self.h5(format!("opening dataset {name}")))?;
+        self.check::<VarLenUnicode>(&ds, name)?;
+        let items = ds
+            .read_raw::<VarLenUnicode>()
+            .map_err(self.h5(format!("reading dataset {name}")))?;
+        items
+            .iter()
+            .map(|s| {
+                crate::results::h5::utf8_text(s)
+                    .map_err(|why| self.invalid(format!("dataset {name}: {why}")))
+            })
+            .collect()
+    }
+    /// Checks an object before reading it ([`crate::results::h5::check_before_read`]).
+    fn check<T: hdf5::H5Type>(&self, object: &hdf5::Container, name: &str) -> Result<(), MapError> {
+        let len = std::fs::metadata(self.path).map_or(0, |m| m.len());
+        crate::results::h5::check_before_read::<T>(object, len)
+            .map_err(|why| self.invalid(format!("{name} is damaged or not of this layout: {why}")))
     }
     fn grid<T: hdf5::H5Type>(
         &self,
@@ -290,6 +315,7 @@ impl Ctx<'_> {
         let ds = g
             .dataset(name)
             .map_err(self.h5(format!("opening dataset {name}")))?;
+        self.check::<T>(&ds, name)?;
         if ds.shape() != shape.to_vec() {
             return Err(self.invalid(format!(
                 "dataset {name} has shape {:?}, expected {:?}",
@@ -311,22 +337,18 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
     if map.axes.is_empty() || map.axes.len() > 2 || map.points.len() != shape[0] * shape[1] {
         return Err(ctx.invalid("a map needs 1 or 2 axes and one point per grid cell"));
     }
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let io = |source| MapError::Io {
-        path: path.to_path_buf(),
-        source,
-    };
-    std::fs::create_dir_all(&dir).map_err(io)?;
-    let temp = tempfile::Builder::new()
-        .prefix(".stability-map-")
-        .suffix(".h5.part")
-        .tempfile_in(&dir)
-        .map_err(io)?;
+    crate::output::write_atomically(path, |temp| write_map_file(map, &ctx, temp, shape))
+}
+
+/// Writes the map's HDF5 objects into the new file `temp`.
+fn write_map_file(
+    map: &StabilityMap,
+    ctx: &Ctx<'_>,
+    temp: &Path,
+    shape: [usize; 2],
+) -> Result<(), MapError> {
     {
-        let file = File::create(temp.path()).map_err(ctx.h5("creating the HDF5 file"))?;
+        let file = File::create(temp).map_err(ctx.h5("creating the HDF5 file"))?;
         let root: &Group = &file;
         ctx.attr_str(root, "format", MAP_FORMAT)?;
         root.new_attr::<i64>()
@@ -426,7 +448,6 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
         )?;
         file.close().map_err(ctx.h5("closing the HDF5 file"))?;
     }
-    temp.persist(path).map_err(|e| io(e.error))?;
     Ok(())
 }
 
@@ -435,6 +456,15 @@ pub fn write_map(map: &StabilityMap, path: &Path) -> Result<(), MapError> {
 /// `format`) or is inconsistent; never panics.
 pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
     let ctx = Ctx { path };
+    match std::fs::metadata(path) {
+        Ok(meta) if !meta.is_file() => {
+            return Err(ctx.invalid("not a regular file (a folder, device, FIFO or socket)"));
+        }
+        _ => {}
+    }
+    crate::output::note_input(path);
+    crate::results::h5::heap::check_global_heaps(path)
+        .map_err(|why| ctx.invalid(format!("the file is damaged: {why}")))?;
     let file = File::open(path).map_err(ctx.h5("opening the file as HDF5"))?;
     let root: &Group = &file;
     let format = ctx
@@ -443,9 +473,12 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
     if format != MAP_FORMAT {
         return Err(ctx.invalid(format!("not a stability map: format is {format:?}")));
     }
-    let version: i64 = root
+    let version_attr = root
         .attr("format_version")
-        .and_then(|a| a.read_scalar())
+        .map_err(ctx.h5("opening attribute format_version"))?;
+    ctx.check::<i64>(&version_attr, "attribute format_version")?;
+    let version: i64 = version_attr
+        .read_scalar()
         .map_err(ctx.h5("reading attribute format_version"))?;
     if !(1..=MAP_FORMAT_VERSION).contains(&version) {
         return Err(ctx.invalid(format!(
@@ -459,10 +492,14 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
     }
     let mut axes = Vec::new();
     for (k, (key, unit)) in keys.into_iter().zip(units).enumerate() {
-        let values = root
-            .dataset(&format!("axis_{k}"))
-            .and_then(|d| d.read_raw::<f64>())
-            .map_err(ctx.h5(format!("reading dataset axis_{k}")))?;
+        let name = format!("axis_{k}");
+        let ds = root
+            .dataset(&name)
+            .map_err(ctx.h5(format!("opening dataset {name}")))?;
+        ctx.check::<f64>(&ds, &name)?;
+        let values = ds
+            .read_raw::<f64>()
+            .map_err(ctx.h5(format!("reading dataset {name}")))?;
         axes.push(MapAxis { key, unit, values });
     }
     let mut map = StabilityMap {

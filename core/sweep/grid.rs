@@ -7,6 +7,10 @@ use crate::params::Override;
 
 use super::SweepError;
 
+/// Most cases one sweep runs (10 million): far beyond any study, and a
+/// limit that stops a typing error before any case starts.
+pub const MAX_CASES: usize = 10_000_000;
+
 /// One varied parameter: `key=start:stop:count`, `count` evenly spaced values
 /// from `start` to `stop` inclusive.
 #[derive(Debug, Clone, PartialEq)]
@@ -119,7 +123,7 @@ pub struct Grid {
 
 impl Grid {
     /// A grid over `axes`; refuses an empty list, a key given twice, and
-    /// grids with more than `u32::MAX` cases.
+    /// grids with more than [`MAX_CASES`] cases.
     pub fn new(axes: Vec<VaryAxis>) -> Result<Grid, SweepError> {
         if axes.is_empty() {
             return Err(SweepError::Vary {
@@ -138,11 +142,20 @@ impl Grid {
         let total = axes
             .iter()
             .try_fold(1usize, |acc, a| acc.checked_mul(a.count))
-            .filter(|&n| n <= u32::MAX as usize);
+            .filter(|&n| n <= MAX_CASES);
         if total.is_none() {
+            let counts: Vec<String> = axes.iter().map(|a| a.count.to_string()).collect();
             return Err(SweepError::Vary {
-                text: String::new(),
-                reason: "the grid has too many cases".to_string(),
+                text: axes
+                    .iter()
+                    .map(|a| a.to_text())
+                    .collect::<Vec<_>>()
+                    .join(" "),
+                reason: format!(
+                    "the grid has {} cases, more than the {MAX_CASES} a sweep runs \
+                     (split it into several sweeps or use fewer points)",
+                    counts.join(" x ")
+                ),
             });
         }
         Ok(Grid { axes })

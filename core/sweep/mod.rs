@@ -265,6 +265,9 @@ pub enum SweepError {
         #[source]
         source: std::io::Error,
     },
+    /// The output path is refused or cannot be written (see [`crate::output`]).
+    #[error(transparent)]
+    Output(#[from] crate::output::OutputError),
     /// The worker threads could not be started.
     #[error("cannot start {jobs} worker threads")]
     Threads {
@@ -297,6 +300,7 @@ impl Classify for SweepError {
             | SweepError::UnsupportedVersion { .. } => ErrorKind::BadInput,
             SweepError::Hdf5 { access, .. } => access.kind(),
             SweepError::Io { source, .. } => io_kind(source),
+            SweepError::Output(e) => e.kind(),
             SweepError::Threads { .. } => ErrorKind::Environment,
             SweepError::Worker { .. } => ErrorKind::Failed,
         }

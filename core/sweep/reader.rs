@@ -550,6 +550,7 @@ impl From<ResultsError> for SweepError {
                 source,
             },
             ResultsError::Invalid { path, reason } => SweepError::Format { path, reason },
+            ResultsError::Output(e) => SweepError::Output(e),
             other @ (ResultsError::NotResultsFile { .. }
             | ResultsError::UnsupportedVersion { .. }) => SweepError::Format {
                 path: PathBuf::new(),

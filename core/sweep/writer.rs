@@ -9,11 +9,11 @@
 //! the cases, never on thread timing; each block is appended with one write
 //! per dataset: samples first, then the summary columns, `case_index` last.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use hdf5::{Dataset, File, Group};
 
-use crate::results::atomic::{commit_output, prepare_output};
+use crate::output::TempFile;
 use crate::results::h5::{H5Context, TrackTimes, str_refs};
 
 use super::case::{Summary, SweepCase};
@@ -72,7 +72,7 @@ struct Block {
 /// place. Dropped unfinished, it removes the temporary file.
 pub(crate) struct SweepWriter {
     ctx: H5Context,
-    temp: PathBuf,
+    temp: Option<TempFile>,
     /// Set once the file is under its final name; until then dropping the
     /// writer removes the temporary file.
     finished: bool,
@@ -102,7 +102,8 @@ impl SweepWriter {
         stamp: &Stamp<'_>,
     ) -> Result<SweepWriter, SweepError> {
         let ctx = H5Context::writer(path, TrackTimes::Off);
-        let temp = prepare_output(path)?;
+        let temp = TempFile::create(path)?;
+        let temp_path = temp.path().to_path_buf();
         let mut writer = SweepWriter {
             finished: false,
             file: None,
@@ -117,10 +118,10 @@ impl SweepWriter {
             rows_written: 0,
             samples_written: 0,
             block: Block::default(),
-            temp,
+            temp: Some(temp),
             ctx,
         };
-        let file = writer.ctx.create_file(&writer.temp)?;
+        let file = writer.ctx.create_file(&temp_path)?;
         write_head(&writer.ctx, &file, spec, stamp)?;
         writer.columns = Some(create_columns(&writer.ctx, &file, &spec.grid.axes)?);
         writer.file = Some(file);
@@ -324,7 +325,11 @@ impl SweepWriter {
             .take()
             .ok_or_else(|| self.ctx.invalid("writer already finished"))?;
         file.close().map_err(self.ctx.h5("closing the HDF5 file"))?;
-        commit_output(&self.temp, &self.ctx.path)?;
+        let temp = self
+            .temp
+            .take()
+            .ok_or_else(|| self.ctx.invalid("writer already finished"))?;
+        temp.commit()?;
         self.finished = true;
         Ok(std::mem::take(&mut self.summary))
     }
@@ -337,7 +342,7 @@ impl Drop for SweepWriter {
             self.samples = None;
             self.columns = None;
             drop(self.file.take());
-            let _ = std::fs::remove_file(&self.temp);
+            drop(self.temp.take());
         }
     }
 }

@@ -14,6 +14,51 @@ use hdf5::{Dataset, File, Group, H5Type, Location};
 
 use crate::results::{Access, ResultsError};
 
+/// The text of a variable-length string read from a file, checked to be
+/// UTF-8 (a damaged file may hold any bytes there).
+pub(crate) fn utf8_text(text: &VarLenUnicode) -> Result<String, String> {
+    std::str::from_utf8(text.as_bytes())
+        .map(str::to_string)
+        .map_err(|e| format!("its text is not UTF-8 ({e})"))
+}
+
+/// Checks an object (dataset or attribute) before its data is read, so that
+/// a damaged or foreign file gives an error instead of a crash inside the
+/// HDF5 library or an allocation of the size a damaged header claims: its
+/// element type is of the class the layout has there (a number where
+/// numbers are read, a variable-length string where text is read) and it
+/// holds no more bytes than the file (`file_len`; yawdyn stores no
+/// compressed data, so every element is stored in full). Returns the reason
+/// when the object does not fit.
+pub(crate) fn check_before_read<T: H5Type>(
+    object: &hdf5::Container,
+    file_len: u64,
+) -> Result<(), String> {
+    use hdf5::types::TypeDescriptor as D;
+    let dtype = object
+        .dtype()
+        .map_err(|e| format!("its element type cannot be read ({e})"))?;
+    let found = dtype
+        .to_descriptor()
+        .map_err(|e| format!("its element type is not one yawdyn writes ({e})"))?;
+    let expected = T::type_descriptor();
+    let numeric = |d: &D| matches!(d, D::Integer(_) | D::Unsigned(_) | D::Float(_) | D::Boolean);
+    let text = |d: &D| matches!(d, D::VarLenUnicode | D::VarLenAscii);
+    let fits = (numeric(&found) && numeric(&expected))
+        || (text(&found) && text(&expected) && found == expected);
+    if !fits {
+        return Err(format!("holds {found}, where yawdyn stores {expected}"));
+    }
+    let elements = object.space().map(|s| s.size()).unwrap_or(usize::MAX) as u128;
+    let bytes = elements.saturating_mul(dtype.size() as u128);
+    if bytes > u128::from(file_len) {
+        return Err(format!(
+            "claims {elements} elements ({bytes} bytes), more than the whole file ({file_len} bytes)"
+        ));
+    }
+    Ok(())
+}
+
 /// Whether HDF5 records creation/modification times in the object headers
 /// of the groups a [`H5Context`] creates (and of the root group of a file it
 /// creates).
@@ -124,11 +169,39 @@ impl H5Context {
             .map_err(self.h5("creating the HDF5 file"))
     }
 
-    /// Opens [`H5Context::path`] read-only, unlocked.
+    /// Opens [`H5Context::path`] read-only, unlocked, after checking that
+    /// it is a regular file (a FIFO would block, a device never end), and
+    /// records it as an input that no output of this command may replace.
     pub(crate) fn open_file(&self) -> Result<File, H5Error> {
+        match std::fs::metadata(&self.path) {
+            Ok(meta) if meta.is_dir() => return Err(self.invalid("a folder, not a file")),
+            Ok(meta) if !meta.is_file() => {
+                return Err(self.invalid("not a regular file (a device, FIFO or socket)"));
+            }
+            _ => {}
+        }
+        crate::output::note_input(&self.path);
+        super::heap::check_global_heaps(&self.path)
+            .map_err(|why| self.invalid(format!("the file is damaged: {why}")))?;
         unlocked_file()
             .open(&self.path)
             .map_err(self.h5("opening the file as HDF5"))
+    }
+
+    /// The length of the file read, bytes (0 when it cannot be looked at).
+    fn file_len(&self) -> u64 {
+        std::fs::metadata(&self.path).map_or(0, |m| m.len())
+    }
+
+    /// [`check_before_read`] for an object of this file, as an [`H5Error`]
+    /// naming the object.
+    pub(crate) fn check_object<T: H5Type>(
+        &self,
+        object: &hdf5::Container,
+        name: &str,
+    ) -> Result<(), H5Error> {
+        check_before_read::<T>(object, self.file_len())
+            .map_err(|why| self.invalid(format!("{name} is damaged or not of this layout: {why}")))
     }
 
     /// Maps an HDF5 error met while doing `action`.
@@ -332,8 +405,15 @@ impl H5Context {
 
     /// Reads the text scalar attribute `name` of `loc`.
     pub(crate) fn read_attr_str(&self, loc: &Location, name: &str) -> Result<String, H5Error> {
-        self.read_attr_scalar::<VarLenUnicode>(loc, name, "text")
-            .map(|text| text.as_str().to_string())
+        let text = self.read_attr_scalar::<VarLenUnicode>(loc, name, "text")?;
+        self.utf8(&text, &format!("attribute {name} of {}", loc.name()))
+    }
+
+    /// The text of `text` read from `what`, checked to be UTF-8 (the HDF5
+    /// binding does not check).
+    fn utf8(&self, text: &VarLenUnicode, what: &str) -> Result<String, H5Error> {
+        utf8_text(text)
+            .map_err(|why| self.invalid(format!("{what} is damaged or not of this layout: {why}")))
     }
 
     /// Reads the f64 scalar attribute `name` of `loc`.
@@ -352,9 +432,14 @@ impl H5Context {
         name: &str,
         kind: &str,
     ) -> Result<T, H5Error> {
-        loc.attr(name)
-            .and_then(|attr| attr.read_scalar::<T>())
-            .map_err(self.h5(format!("reading {kind} attribute {name} of {}", loc.name())))
+        let what = format!("{kind} attribute {name} of {}", loc.name());
+        let attr = loc.attr(name).map_err(self.h5(format!("opening {what}")))?;
+        self.check_object::<T>(&attr, &what)?;
+        if attr.ndim() != 0 {
+            return Err(self.invalid(format!("{what} is not a single value")));
+        }
+        attr.read_scalar::<T>()
+            .map_err(self.h5(format!("reading {what}")))
     }
 
     /// Reads the one-dimensional f64 dataset `name` in `group`.
@@ -371,6 +456,7 @@ impl H5Context {
     /// Reads the numbers of the one-dimensional dataset `ds`.
     pub(crate) fn read_1d_from<T: H5Type>(&self, ds: &Dataset) -> Result<Vec<T>, H5Error> {
         self.check_1d(ds)?;
+        self.check_object::<T>(ds, &ds.name())?;
         ds.read_raw()
             .map_err(self.h5(format!("reading numbers from {}", ds.name())))
     }
@@ -391,6 +477,7 @@ impl H5Context {
         range: Range<usize>,
     ) -> Result<Vec<T>, H5Error> {
         self.check_1d(ds)?;
+        self.check_object::<T>(ds, &ds.name())?;
         if range.end > ds.size() || range.start > range.end {
             return Err(self.invalid(format!(
                 "{} has {} elements; elements {}..{} were asked for",
@@ -417,17 +504,24 @@ impl H5Context {
     /// Reads the texts of the one-dimensional text dataset `ds`.
     pub(crate) fn read_strs_from(&self, ds: &Dataset) -> Result<Vec<String>, H5Error> {
         self.check_1d(ds)?;
-        ds.read_raw::<VarLenUnicode>()
-            .map(|items| items.iter().map(|t| t.as_str().to_string()).collect())
-            .map_err(self.h5(format!("reading text list from {}", ds.name())))
+        self.check_object::<VarLenUnicode>(ds, &ds.name())?;
+        let items = ds
+            .read_raw::<VarLenUnicode>()
+            .map_err(self.h5(format!("reading text list from {}", ds.name())))?;
+        items.iter().map(|t| self.utf8(t, &ds.name())).collect()
     }
 
     /// Reads the text scalar dataset `name` in `group`.
     pub(crate) fn read_str(&self, group: &Group, name: &str) -> Result<String, H5Error> {
         let ds = self.open_dataset(group, name)?;
-        ds.read_scalar::<VarLenUnicode>()
-            .map(|text| text.as_str().to_string())
-            .map_err(self.h5(format!("reading text from {}", ds.name())))
+        self.check_object::<VarLenUnicode>(&ds, &ds.name())?;
+        if ds.ndim() != 0 {
+            return Err(self.invalid(format!("{} is not a single text", ds.name())));
+        }
+        let text = ds
+            .read_scalar::<VarLenUnicode>()
+            .map_err(self.h5(format!("reading text from {}", ds.name())))?;
+        self.utf8(&text, &ds.name())
     }
 
     /// Reads the one-dimensional text dataset `name` in `group`.

@@ -3,19 +3,20 @@
 //! the crate ([`H5Context`]), which sweep files use too.
 
 mod context;
+pub(crate) mod heap;
 
 use std::path::Path;
 
 use hdf5::types::VarLenUnicode;
 use hdf5::{File, Group};
 
-pub(crate) use context::{H5Context, H5Error, TrackTimes};
+pub(crate) use context::{H5Context, H5Error, TrackTimes, check_before_read, utf8_text};
 
-use super::atomic::write_atomically;
 use super::{
     Channel, Criterion, FORMAT_NAME, FORMAT_VERSION, Metric, Provenance, ResultsError, RunRecord,
     RunStatus,
 };
+use crate::output::write_atomically;
 
 /// Write `record` to `path` as a yawdyn HDF5 results file.
 ///
@@ -119,11 +120,22 @@ fn check_format(ctx: &H5Context, file: &File) -> Result<(), ResultsError> {
     let attr = file
         .attr("format")
         .map_err(|_| not_ours("no `format` attribute on the root group".to_string()))?;
+    context::check_before_read::<VarLenUnicode>(
+        &attr,
+        std::fs::metadata(&ctx.path).map_or(0, |m| m.len()),
+    )
+    .map_err(|why| not_ours(format!("the `format` attribute {why}")))?;
+    if attr.ndim() != 0 {
+        return Err(not_ours(
+            "the `format` attribute is not a single text".to_string(),
+        ));
+    }
     let format: VarLenUnicode = attr
         .read_scalar()
         .map_err(|_| not_ours("the `format` attribute is not a text scalar".to_string()))?;
-    if format.as_str() != FORMAT_NAME {
-        return Err(not_ours(format!("format is {:?}", format.as_str())));
+    let format = context::utf8_text(&format).map_err(|why| not_ours(format!("format: {why}")))?;
+    if format != FORMAT_NAME {
+        return Err(not_ours(format!("format is {format:?}")));
     }
     let version = ctx.read_attr_i64(file, "format_version")?;
     if version != FORMAT_VERSION {
@@ -304,6 +316,10 @@ impl H5Context {
         let mut metrics = Vec::new();
         for name in self.read_strs(group, "metric_order")? {
             let ds = self.open_dataset(&metrics_group, &name)?;
+            self.check_object::<f64>(&ds, &ds.name())?;
+            if ds.ndim() != 0 {
+                return Err(self.invalid(format!("{} is not a single number", ds.name())));
+            }
             let value: f64 = ds
                 .read_scalar()
                 .map_err(self.h5(format!("reading scalar {}", ds.name())))?;
