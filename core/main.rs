@@ -17,6 +17,8 @@ fn main() -> ExitCode {
     // Before any other thread starts: SIGINT, SIGTERM and SIGHUP remove the
     // temporary files of unfinished outputs.
     yawdyn::output::install_signal_cleanup();
+    // Every file a command reads is one of its inputs: no output replaces it.
+    yawdyn::output::record_reads_as_inputs();
     let outcome = cli::run();
     cli::stdout::flush();
     // Standard output that failed (not a closed pipe): the machine got in

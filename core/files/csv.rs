@@ -5,7 +5,7 @@ use std::io::{BufWriter, Write};
 use std::path::Path;
 
 use super::{FileError, FileKind, file_kind};
-use crate::results::{ResultsError, read_hdf5, write_atomically};
+use crate::results::{ResultsError, quote_csv_cell as quote, read_hdf5, write_atomically};
 use crate::stability::{StabilityMap, read_map};
 use crate::sweep::{SweepFile, for_each_case, read_sweep};
 
@@ -375,15 +375,6 @@ impl<'a> Csv<'a> {
 
     fn finish(mut self) -> Result<(), FileError> {
         self.out.flush().map_err(FileError::Write)
-    }
-}
-
-/// Quotes a text cell when it would otherwise break the CSV structure.
-fn quote(text: &str) -> String {
-    if text.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", text.replace('"', "\"\""))
-    } else {
-        text.to_string()
     }
 }
 

@@ -113,8 +113,8 @@ struct Input {
 static INPUTS: Mutex<Vec<Input>> = Mutex::new(Vec::new());
 
 /// Records `path` as an input of this command, so that no output replaces
-/// it. Readers call it for every file they open (scripts, vehicle files,
-/// results, sweep and map files); a path that cannot be looked at is not
+/// it. With [`record_reads_as_inputs`] the readers call it for every file
+/// they open (scripts, vehicle files, results, sweep and map files); a path that cannot be looked at is not
 /// recorded (its reader reports the problem).
 pub fn note_input(path: &Path) {
     if let Ok(meta) = std::fs::metadata(path) {
@@ -129,6 +129,26 @@ pub fn note_input(path: &Path) {
                 path: path.to_path_buf(),
             });
         }
+    }
+}
+
+/// Whether the library's readers record what they read (see [`note_read`]).
+static RECORD_READS: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// Makes every file the library's readers open an input of this process
+/// that no output may replace. The command-line program turns it on at its
+/// start; a program that uses the library (and may well read a file, change
+/// it and write it back) leaves it off and notes its inputs itself with
+/// [`note_input`].
+pub fn record_reads_as_inputs() {
+    RECORD_READS.store(true, std::sync::atomic::Ordering::Relaxed);
+}
+
+/// Called by the library's readers for each file they open: [`note_input`]
+/// when [`record_reads_as_inputs`] was called, else nothing.
+pub(crate) fn note_read(path: &Path) {
+    if RECORD_READS.load(std::sync::atomic::Ordering::Relaxed) {
+        note_input(path);
     }
 }
 

@@ -39,7 +39,7 @@ pub fn read_text_file(path: &Path, extension: Option<&str>, max_bytes: u64) -> i
     // Look before opening: opening a FIFO for reading would block.
     regular(&std::fs::metadata(path)?, max_bytes).map_err(refuse)?;
     let file = File::open(path)?;
-    crate::output::note_input(path);
+    crate::output::note_read(path);
     // The file opened may differ from the one looked at (replaced between).
     regular(&file.metadata()?, max_bytes).map_err(refuse)?;
     let mut bytes = Vec::new();

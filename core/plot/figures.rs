@@ -115,7 +115,7 @@ pub fn file_format(path: &Path) -> Result<String, FigureError> {
     if !meta.is_file() {
         return Err(unknown("not a regular file".into()));
     }
-    crate::output::note_input(path);
+    crate::output::note_read(path);
     crate::results::h5::heap::check_global_heaps(path)
         .map_err(|why| unknown(format!("the file is damaged: {why}")))?;
     // No HDF5 file locking: see the note on `results::read_hdf5`'s opener.

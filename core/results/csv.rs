@@ -56,8 +56,10 @@ fn write_text_row<'a>(
     writeln!(out, "{}", line.join(","))
 }
 
-/// Quote a text cell when it would otherwise break the CSV structure.
-fn quote(text: &str) -> String {
+/// Quotes a text cell when it would otherwise break the CSV structure
+/// (RFC 4180, section 2: fields with commas, quotes or line breaks are
+/// enclosed in double quotes, a quote doubled).
+pub(crate) fn quote(text: &str) -> String {
     if text.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", text.replace('"', "\"\""))
     } else {

@@ -63,6 +63,7 @@ mod summary;
 
 pub use crate::output::check_output_path;
 pub(crate) use crate::output::write_atomically;
+pub(crate) use csv::quote as quote_csv_cell;
 pub use csv::write_csv;
 pub use error::{Access, ResultsError};
 pub use h5::{read_format, read_hdf5, write_hdf5};

@@ -462,7 +462,7 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
         }
         _ => {}
     }
-    crate::output::note_input(path);
+    crate::output::note_read(path);
     crate::results::h5::heap::check_global_heaps(path)
         .map_err(|why| ctx.invalid(format!("the file is damaged: {why}")))?;
     let file = File::open(path).map_err(ctx.h5("opening the file as HDF5"))?;

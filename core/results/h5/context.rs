@@ -180,7 +180,7 @@ impl H5Context {
             }
             _ => {}
         }
-        crate::output::note_input(&self.path);
+        crate::output::note_read(&self.path);
         super::heap::check_global_heaps(&self.path)
             .map_err(|why| self.invalid(format!("the file is damaged: {why}")))?;
         unlocked_file()
