@@ -309,7 +309,8 @@ fn sweep_metric_against_parameter_one_line_per_other_value() {
     assert_labels(
         &dir.path().join("sw.svg"),
         &[
-            "chassis.mass",
+            // The varied parameter with the unit the sweep file stores.
+            "chassis.mass [kg]",
             "yaw rate gain",
             "drive.front_share = 0.3",
             "drive.front_share = 0.7",

@@ -538,6 +538,11 @@ fn sweep(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
         })
         .collect();
     let spec = &sweep.spec;
+    // The varied parameter with its unit when the sweep file stores one.
+    let x_label = match spec.grid.axes.iter().find(|a| a.key == x_key) {
+        Some(axis) if !axis.unit.is_empty() => format!("{x_key} [{}]", unit_text(&axis.unit)),
+        _ => x_key.to_string(),
+    };
     let mut title = format!(
         "{}: {} against {x_key}",
         stem_of(&spec.script_path),
@@ -553,7 +558,7 @@ fn sweep(args: &Args, file: &Path, out: &Path) -> anyhow::Result<Drawn> {
     lines_with_markers(
         out,
         &title,
-        &Axis::new(x_key),
+        &Axis::new(x_label),
         &Axis::new(axis_label(&metric.name, &eng.unit)),
         &series,
     )?;
