@@ -252,3 +252,70 @@ fn sweep_size_and_threads_are_capped() {
     }
     assert!(temp_files(dir.path()).is_empty());
 }
+
+/// `merge`, `yaw-moment` and `gg-envelope` write through the same rules: a
+/// shard, the vehicle file or a FIFO as the output is refused (exit 2) and
+/// left as it was, with no temporary file behind.
+#[test]
+fn merge_and_quasi_static_commands_refuse_their_inputs_and_special_files() {
+    let dir = TempDir::new();
+    short_script(&dir);
+    for (k, shard) in ["1/2", "2/2"].iter().enumerate() {
+        let out = dir.yawdyn([
+            "sweep",
+            "short.rhai",
+            "--vary",
+            "chassis.mass=1700:1800:2",
+            "--shard",
+            shard,
+            "--out",
+            &format!("s{}.h5", k + 1),
+            "--quiet",
+        ]);
+        out.expect_code(0);
+    }
+    let shard = fs::read(dir.join("s1.h5")).unwrap();
+    let vehicle = fs::read(dir.join("car.toml")).unwrap();
+    make_fifo(&dir.join("fifo.h5"));
+    let cases: [&[&str]; 4] = [
+        &["merge", "s1.h5", "s1.h5", "s2.h5"],
+        &["merge", "fifo.h5", "s1.h5", "s2.h5"],
+        &[
+            "yaw-moment",
+            "car.toml",
+            "--speed-kph",
+            "60",
+            "--out",
+            "car.toml",
+        ],
+        &[
+            "gg-envelope",
+            "car.toml",
+            "--speed-kph",
+            "60",
+            "--out",
+            "fifo.h5",
+        ],
+    ];
+    for args in cases {
+        let out = dir.yawdyn(args);
+        out.expect_code(2);
+        assert!(
+            out.stderr.contains("refused as an output"),
+            "{args:?}: {}",
+            out.stderr
+        );
+    }
+    assert_eq!(fs::read(dir.join("s1.h5")).unwrap(), shard);
+    assert_eq!(fs::read(dir.join("car.toml")).unwrap(), vehicle);
+    assert!(
+        fs::metadata(dir.join("fifo.h5"))
+            .unwrap()
+            .file_type()
+            .is_fifo()
+    );
+    assert!(temp_files(dir.path()).is_empty());
+    // The same merge to a new path works.
+    dir.yawdyn(["merge", "all.h5", "s1.h5", "s2.h5"])
+        .expect_code(0);
+}
