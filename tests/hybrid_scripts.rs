@@ -14,7 +14,7 @@
 
 mod common;
 
-use common::{TempDir, repo_path};
+use common::{TempDir, channel, extra, metric, repo_path};
 use yawdyn::params::{Machine, Override, Vehicle, load_vehicle};
 use yawdyn::results::{RunRecord, RunStatus, read_hdf5};
 use yawdyn::script::{RunOptions, run_script, run_script_text};
@@ -43,30 +43,6 @@ fn run_body(body: &str, sets: &[&str]) -> RunRecord {
         .unwrap_or_else(|e| panic!("script failed: {e}"));
     assert_eq!(r.status, RunStatus::Completed, "{:?}", r.status);
     r
-}
-
-fn channel<'a>(r: &'a RunRecord, name: &str) -> &'a [f64] {
-    &r.channel(name)
-        .unwrap_or_else(|| panic!("no channel {name}"))
-        .data
-}
-
-fn metric(r: &RunRecord, name: &str) -> f64 {
-    r.metrics
-        .iter()
-        .find(|m| m.name == name)
-        .unwrap_or_else(|| panic!("no metric {name}"))
-        .value
-}
-
-/// A number kept in the record's provenance (`phase.<name>`, `value.<name>`).
-fn extra(r: &RunRecord, key: &str) -> f64 {
-    r.provenance
-        .extra
-        .iter()
-        .find(|(k, _)| k == key)
-        .and_then(|(_, v)| v.parse().ok())
-        .unwrap_or_else(|| panic!("no provenance item {key}"))
 }
 
 /// Value of channel `name` at the last sample with time ≤ `t`.

@@ -6,7 +6,7 @@ mod common;
 
 use std::path::Path;
 
-use common::{TempDir, repo_path};
+use common::{TempDir, channel, extra, metric, repo_path};
 use yawdyn::params::{GRAVITY, Override, load_vehicle, load_vehicle_text};
 use yawdyn::results::{RunRecord, RunStatus, read_hdf5};
 use yawdyn::script::{RunOptions, run_script, run_script_text};
@@ -33,29 +33,6 @@ fn run_text(text: &str) -> RunRecord {
         &RunOptions::default(),
     )
     .unwrap_or_else(|e| panic!("script failed: {e}"))
-}
-
-fn channel<'a>(r: &'a RunRecord, name: &str) -> &'a [f64] {
-    &r.channel(name)
-        .unwrap_or_else(|| panic!("no channel {name}"))
-        .data
-}
-
-fn metric(r: &RunRecord, name: &str) -> f64 {
-    r.metrics
-        .iter()
-        .find(|m| m.name == name)
-        .unwrap_or_else(|| panic!("no metric {name}"))
-        .value
-}
-
-fn extra(r: &RunRecord, key: &str) -> f64 {
-    r.provenance
-        .extra
-        .iter()
-        .find(|(k, _)| k == key)
-        .and_then(|(_, v)| v.parse().ok())
-        .unwrap_or_else(|| panic!("no provenance item {key}"))
 }
 
 /// Values of `name` for sample times in [t0, t1].

@@ -216,3 +216,29 @@ pub fn text(out: &std::process::Output) -> String {
         String::from_utf8_lossy(&out.stderr)
     )
 }
+
+/// The samples of channel `name` of a run (panics naming it when absent).
+pub fn channel<'a>(r: &'a yawdyn::results::RunRecord, name: &str) -> &'a [f64] {
+    &r.channel(name)
+        .unwrap_or_else(|| panic!("no channel {name}"))
+        .data
+}
+
+/// The value of metric `name` of a run (panics naming it when absent).
+pub fn metric(r: &yawdyn::results::RunRecord, name: &str) -> f64 {
+    r.metrics
+        .iter()
+        .find(|m| m.name == name)
+        .unwrap_or_else(|| panic!("no metric {name}"))
+        .value
+}
+
+/// A number kept in a run's provenance (`phase.<name>`, `value.<name>`).
+pub fn extra(r: &yawdyn::results::RunRecord, key: &str) -> f64 {
+    r.provenance
+        .extra
+        .iter()
+        .find(|(k, _)| k == key)
+        .and_then(|(_, v)| v.parse().ok())
+        .unwrap_or_else(|| panic!("no provenance item {key}"))
+}
