@@ -182,6 +182,16 @@ fn escape(text: &str) -> String {
     s
 }
 
+/// Whole-pixel vertices as an SVG `points` attribute value ("x,y x,y ...").
+fn points_attr(path: impl IntoIterator<Item = BackendCoord>) -> String {
+    let mut points = String::new();
+    for (x, y) in path {
+        let _ = write!(points, "{x},{y} ");
+    }
+    points.truncate(points.trim_end().len());
+    points
+}
+
 /// A pixel coordinate with two decimals (a hundredth of a pixel is below
 /// anything a screen or printer shows), trailing zeros dropped.
 fn num(v: f64) -> String {
@@ -327,17 +337,14 @@ impl DrawingBackend for SvgCanvas<'_> {
     ) -> Result<(), DrawingErrorKind<CanvasError>> {
         let c = style.color();
         if c.alpha > 0.0 {
-            let mut points = String::new();
-            for (x, y) in path {
-                let _ = write!(points, "{x},{y} ");
-            }
+            let points = points_attr(path);
             let _ = writeln!(
                 self.out,
                 "<polyline fill=\"none\" opacity=\"{}\" stroke=\"{}\" stroke-width=\"{}\" points=\"{}\"/>",
                 c.alpha,
                 colour_attr(c),
                 style.stroke_width(),
-                points.trim_end()
+                points
             );
         }
         Ok(())
@@ -350,16 +357,13 @@ impl DrawingBackend for SvgCanvas<'_> {
     ) -> Result<(), DrawingErrorKind<CanvasError>> {
         let c = style.color();
         if c.alpha > 0.0 {
-            let mut points = String::new();
-            for (x, y) in path {
-                let _ = write!(points, "{x},{y} ");
-            }
+            let points = points_attr(path);
             let _ = writeln!(
                 self.out,
                 "<polygon opacity=\"{}\" fill=\"{}\" points=\"{}\"/>",
                 c.alpha,
                 colour_attr(c),
-                points.trim_end()
+                points
             );
         }
         Ok(())
