@@ -18,7 +18,7 @@ use std::time::Instant;
 use crate::params::Override;
 use crate::results::{RunRecord, RunStatus};
 
-use super::reader::{SweepFile, for_each_case, read_sweep};
+use super::stamp::{utc_now, yawdyn_version};
 use super::writer::{Stamp, SweepWriter};
 use super::{CaseStatus, Shard, Summary, SweepCase, SweepError, SweepSpec};
 
@@ -395,7 +395,7 @@ impl Drop for StopOnPanic<'_> {
 
 /// CPU time the calling thread has used, s: the first field (ns on the CPU)
 /// of Linux's `/proc/thread-self/schedstat`; NaN where that is not available.
-fn thread_cpu_time_s() -> f64 {
+pub(super) fn thread_cpu_time_s() -> f64 {
     std::fs::read_to_string("/proc/thread-self/schedstat")
         .ok()
         .and_then(|text| text.split_whitespace().next()?.parse::<f64>().ok())
@@ -493,115 +493,6 @@ fn run_case(cases: &dyn CaseList, runner: &CaseRunner<'_>, index: usize) -> Swee
     case
 }
 
-/// Joins shard files into `out`, the file one unsharded run would have
-/// written (same summary bit for bit; only `created_utc` differs unless
-/// `SOURCE_DATE_EPOCH` is set).
-///
-/// Refuses ([`SweepError::Mismatch`]) shards whose script text, vary spec,
-/// base overrides, channel selection or stored channels differ from the
-/// first one's, and sets of shards in which a case is missing or appears
-/// twice; nothing is written then. Memory holds one read block of cases at a
-/// time besides the summary.
-pub fn merge_sweeps(out: &Path, shards: &[PathBuf]) -> Result<SweepReport, SweepError> {
-    let started = Instant::now();
-    if shards.is_empty() {
-        return Err(SweepError::Option(
-            "give at least one shard file".to_string(),
-        ));
-    }
-    let mut files = shards
-        .iter()
-        .map(|p| read_sweep(p))
-        .collect::<Result<Vec<_>, _>>()?;
-    check_shards_match(&files)?;
-    files.sort_by_key(|f| f.summary.case_index.first().copied().unwrap_or(usize::MAX));
-    check_shards_cover(&files)?;
-    let created = utc_now();
-    let stamp = Stamp {
-        created_utc: &created,
-        yawdyn_version: &files[0].yawdyn_version,
-        shard: Shard::WHOLE,
-    };
-    let cpu_at_start = thread_cpu_time_s();
-    let mut writer = SweepWriter::create(out, &files[0].spec, &stamp)?;
-    for f in &files {
-        for_each_case(f, |case| writer.write_case(case))?;
-    }
-    let summary = writer.finish()?;
-    Ok(SweepReport {
-        out: out.to_path_buf(),
-        summary,
-        wall_time_s: started.elapsed().as_secs_f64(),
-        writer_cpu_s: thread_cpu_time_s() - cpu_at_start,
-    })
-}
-
-/// Refuses shards whose inputs or stored channels differ from the first one's.
-fn check_shards_match(files: &[SweepFile]) -> Result<(), SweepError> {
-    let first = &files[0];
-    let base_text = |spec: &SweepSpec| -> Vec<String> {
-        spec.base_overrides.iter().map(Override::to_text).collect()
-    };
-    let ran = |f: &SweepFile| f.summary.status.iter().any(|&s| s != CaseStatus::Error);
-    for f in &files[1..] {
-        let mismatch = |what: &str| SweepError::Mismatch {
-            path: f.path.clone(),
-            reason: format!("{what} differs from that of {}", first.path.display()),
-        };
-        if f.spec.script_text != first.spec.script_text {
-            return Err(mismatch("the script text"));
-        }
-        if f.spec.vehicle_toml != first.spec.vehicle_toml {
-            return Err(mismatch("the vehicle file"));
-        }
-        if f.spec.grid != first.spec.grid {
-            return Err(mismatch("the --vary spec"));
-        }
-        if base_text(&f.spec) != base_text(&first.spec) {
-            return Err(mismatch("the base overrides (--set)"));
-        }
-        if f.spec.channels != first.spec.channels {
-            return Err(mismatch("the --channels selection"));
-        }
-        if ran(f) && ran(first) && f.channel_names() != first.channel_names() {
-            return Err(mismatch("the set of stored channels"));
-        }
-    }
-    Ok(())
-}
-
-/// Refuses shards (sorted by first case) in which a case is missing or
-/// appears twice.
-fn check_shards_cover(files: &[SweepFile]) -> Result<(), SweepError> {
-    let total = files[0].case_total;
-    let mut expected = 0usize;
-    for f in files {
-        for &index in &f.summary.case_index {
-            let problem = if index < expected {
-                Some(format!("case {index} appears in more than one shard"))
-            } else if index > expected {
-                Some(format!("cases {expected}..{index} are in no shard given"))
-            } else {
-                None
-            };
-            if let Some(reason) = problem {
-                return Err(SweepError::Mismatch {
-                    path: f.path.clone(),
-                    reason,
-                });
-            }
-            expected += 1;
-        }
-    }
-    if expected != total {
-        return Err(SweepError::Mismatch {
-            path: files[files.len() - 1].path.clone(),
-            reason: format!("cases {expected}..{total} are in no shard given"),
-        });
-    }
-    Ok(())
-}
-
 /// Criterion names become group names in a sweep file: each must be a plain
 /// word (no `/`, not empty, `.` or `..`) and appear once per run.
 fn storable_criteria(record: &RunRecord) -> Result<(), String> {
@@ -617,67 +508,4 @@ fn storable_criteria(record: &RunRecord) -> Result<(), String> {
         }
     }
     Ok(())
-}
-
-/// yawdyn version with git revision, as stored in files.
-pub fn yawdyn_version() -> String {
-    format!(
-        "{} ({})",
-        env!("CARGO_PKG_VERSION"),
-        option_env!("YAWDYN_GIT_REVISION").unwrap_or("unknown revision")
-    )
-}
-
-/// The current time as ISO 8601 UTC (`2026-12-01T21:40:00Z`), or the time
-/// given in seconds by the environment variable `SOURCE_DATE_EPOCH` when set
-/// (common practice for reproducible outputs).
-pub fn utc_now() -> String {
-    let seconds = std::env::var("SOURCE_DATE_EPOCH")
-        .ok()
-        .and_then(|s| s.trim().parse::<i64>().ok())
-        .unwrap_or_else(|| {
-            std::time::SystemTime::now()
-                .duration_since(std::time::UNIX_EPOCH)
-                .map_or(0, |d| d.as_secs() as i64)
-        });
-    iso_utc(seconds)
-}
-
-/// Seconds since 1970-01-01T00:00:00Z as ISO 8601 text.
-///
-/// Civil date from a day count: H. Hinnant, "chrono-Compatible Low-Level
-/// Date Algorithms", algorithm `civil_from_days` (from memory).
-fn iso_utc(seconds: i64) -> String {
-    let days = seconds.div_euclid(86_400);
-    let secs = seconds.rem_euclid(86_400);
-    let z = days + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z.rem_euclid(146_097);
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let day = doy - (153 * mp + 2) / 5 + 1;
-    let month = if mp < 10 { mp + 3 } else { mp - 9 };
-    let year = yoe + era * 400 + i64::from(month <= 2);
-    format!(
-        "{year:04}-{month:02}-{day:02}T{:02}:{:02}:{:02}Z",
-        secs / 3600,
-        secs / 60 % 60,
-        secs % 60
-    )
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn iso_utc_known_dates() {
-        // Known instants: the Unix epoch; 2000-03-01 (day after a leap day of a
-        // century leap year); 1e9 s = 2001-09-09T01:46:40Z (widely published).
-        assert_eq!(iso_utc(0), "1970-01-01T00:00:00Z");
-        assert_eq!(iso_utc(951_868_800), "2000-03-01T00:00:00Z");
-        assert_eq!(iso_utc(1_000_000_000), "2001-09-09T01:46:40Z");
-        assert_eq!(iso_utc(-1), "1969-12-31T23:59:59Z");
-    }
 }

@@ -102,7 +102,9 @@ mod case;
 mod engine;
 mod grid;
 mod layout;
+mod merge;
 mod reader;
+mod stamp;
 mod writer;
 
 use std::path::PathBuf;
@@ -114,13 +116,12 @@ use crate::params::Override;
 use crate::results::Access;
 
 pub use case::{Summary, SummaryCriterion, SummaryMetric, SweepCase};
-pub use engine::{
-    CaseList, CaseRunner, SweepOptions, SweepReport, merge_sweeps, run_cases, run_sweep, utc_now,
-    yawdyn_version,
-};
+pub use engine::{CaseList, CaseRunner, SweepOptions, SweepReport, run_cases, run_sweep};
 pub use grid::{Grid, Shard, VaryAxis};
+pub use merge::merge_sweeps;
 pub(crate) use reader::for_each_case;
 pub use reader::{SweepFile, read_sweep};
+pub use stamp::{utc_now, yawdyn_version};
 
 /// Value of the root `format` attribute of a sweep file.
 pub const FORMAT_NAME: &str = "yawdyn-sweep";
