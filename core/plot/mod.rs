@@ -56,11 +56,13 @@ mod lines;
 mod quasi_static;
 mod sensitivity;
 mod style;
+mod text;
 mod vehicle;
 
 use std::path::{Path, PathBuf};
 
-pub use canvas::{PNG_SCALE, shorten, svg_to_png, text_width, wrap_text};
+pub use canvas::{PNG_SCALE, svg_to_png};
+pub use text::{shorten, text_width, wrap_text};
 
 /// Whether `path` names a PNG file (extension `.png`, any case): the plot
 /// functions write PNG to such a path and SVG to any other.

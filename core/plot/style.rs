@@ -122,7 +122,7 @@ pub(crate) fn titled<'a>(area: &Area<'a>, title: &str) -> Result<Area<'a>, DrawE
     let px = TITLE_SIZE as f64 / 1.24;
     let (width, _) = area.dim_in_pixel();
     let usable = width.saturating_sub(2 * MARGIN) as f64;
-    let lines = canvas::wrap_text(title, px, usable, TITLE_LINES);
+    let lines = super::text::wrap_text(title, px, usable, TITLE_LINES);
     let line_height = (1.25 * px).round() as i32;
     let style = TextStyle::from((FONT, TITLE_SIZE))
         .color(&BLACK)
@@ -356,7 +356,7 @@ pub(crate) fn legend_size<'a>(labels: impl IntoIterator<Item = &'a str>) -> (u32
     let mut widest = 0.0_f64;
     for label in labels {
         rows += 1;
-        widest = widest.max(canvas::text_width(label, px));
+        widest = widest.max(super::text::text_width(label, px));
     }
     let width = widest.ceil() as u32 + 22 + 30;
     let height = rows * (px.ceil() as u32 + 8) + 12;
