@@ -119,9 +119,43 @@ const fn wheel(
     }
 }
 
-/// Every output channel, in recording order.
+/// Defines [`CHANNEL_DEFS`] from one list of entries, and [`fill_row`] with
+/// the same readers called directly (inlined, where the table's function
+/// pointers are called one by one).
+macro_rules! channel_table {
+    ($($kind:ident($name:literal, $unit:literal, $description:literal, $read:expr),)*) => {
+        /// Every output channel, in recording order.
+        pub const CHANNEL_DEFS: [ChannelDef; [$($name),*].len()] = [
+            $($kind($name, $unit, $description, $read),)*
+        ];
+
+        /// Every channel's value in `outputs`, in recording order (the
+        /// readers of [`CHANNEL_DEFS`], each called directly).
+        #[inline]
+        // Each reader is the table's closure, called where it is written.
+        #[allow(clippy::redundant_closure_call)]
+        fn fill_row(outputs: &Outputs, row: &mut Row) {
+            let mut k = 0;
+            $(channel_table!(@put $kind, $read, outputs, row, k);)*
+            debug_assert_eq!(k, N_CHANNELS);
+        }
+    };
+    (@put body, $read:expr, $o:ident, $row:ident, $k:ident) => {
+        let read: fn(&Outputs) -> f64 = $read;
+        $row[$k] = read($o);
+        $k += 1;
+    };
+    (@put wheel, $read:expr, $o:ident, $row:ident, $k:ident) => {
+        let read: fn(&Outputs, usize) -> f64 = $read;
+        for i in 0..WHEEL_NAMES.len() {
+            $row[$k + i] = read($o, i);
+        }
+        $k += WHEEL_NAMES.len();
+    };
+}
+
 #[rustfmt::skip]
-pub const CHANNEL_DEFS: [ChannelDef; 47] = [
+channel_table! {
     body("x", "m", "global x position of the CG", |o| o.state[X]),
     body("y", "m", "global y position of the CG", |o| o.state[Y]),
     body("yaw", "rad", "heading angle (ISO 8855, positive anticlockwise from above)", |o| o.state[YAW]),
@@ -169,7 +203,7 @@ pub const CHANNEL_DEFS: [ChannelDef; 47] = [
     wheel("steer_angle", "rad", "road-wheel steer angle (positive left)", |o, i| o.evaluation.wheels[i].steer_angle),
     wheel("drive_torque", "N*m", "drive torque applied to the wheel", |o, i| o.evaluation.wheels[i].drive_torque),
     wheel("brake_torque", "N*m", "brake torque applied to the wheel", |o, i| o.evaluation.wheels[i].brake_torque),
-];
+}
 
 /// Number of recorded channels, per-wheel entries counted four times (time excluded).
 pub const N_CHANNELS: usize = {
@@ -276,24 +310,17 @@ impl ChannelTable {
     }
 
     /// Every channel's value in `outputs`, in recording order.
+    #[inline]
     pub fn row(&self, outputs: &Outputs) -> Row {
         let mut row = [0.0; N_CHANNELS];
-        let mut k = 0;
-        for def in &CHANNEL_DEFS {
-            match def.read {
-                Reader::Body(f) => {
-                    row[k] = f(outputs);
-                    k += 1;
-                }
-                Reader::Wheel(f) => {
-                    for i in 0..WHEEL_NAMES.len() {
-                        row[k] = f(outputs, i);
-                        k += 1;
-                    }
-                }
-            }
-        }
+        fill_row(outputs, &mut row);
         row
+    }
+
+    /// As [`row`](Self::row), written into `row` (no copy of the row).
+    #[inline]
+    pub fn fill(&self, outputs: &Outputs, row: &mut Row) {
+        fill_row(outputs, row);
     }
 }
 

@@ -70,6 +70,9 @@ pub(super) struct Continuous {
     output: StepOutput,
     /// Channel values at the interpolation nodes of the last step.
     nodes: Box<[Row; N_NODES]>,
+    /// Time of the last node of `nodes` when it holds the channel values of
+    /// the current `at_start` (the next step starts from it).
+    nodes_end: Option<f64>,
     /// Channel values of the samples of one step (scratch, reused).
     batch: Vec<Row>,
 }
@@ -85,6 +88,7 @@ impl Continuous {
             at_end: None,
             output: StepOutput::Undecided,
             nodes: Box::new([[0.0; N_CHANNELS]; N_NODES]),
+            nodes_end: None,
             batch: Vec::new(),
         }
     }
@@ -95,6 +99,7 @@ impl Continuous {
         self.stepper.restart(time, state);
         self.at_start = None;
         self.at_end = None;
+        self.nodes_end = None;
         self.output = StepOutput::Undecided;
     }
 
@@ -253,7 +258,9 @@ impl Simulation {
                 self.output_evaluations += 1;
                 Captured::evaluate(model, inputs, ts, &run.stepper.dense(ts))
             });
-            batch.push(table.row(&self.outputs_of(ts, &captured)));
+            batch.push([0.0; N_CHANNELS]);
+            let row = batch.last_mut().expect("just pushed");
+            table.fill(&self.outputs_of(ts, &captured), row);
         }
         self.recorder.push_rows(&batch);
         run.batch = batch;
@@ -294,11 +301,18 @@ impl Simulation {
             return StepOutput::Direct;
         }
         let table = ChannelTable::get();
-        run.nodes[0] = table.row(&self.outputs_of(t0, &start));
-        run.nodes[N_NODES - 1] = table.row(&self.outputs_of(t1, &end));
+        // The first node is the last one of the step before when that step
+        // filled its nodes (the same evaluation, `at_start`).
+        if run.nodes_end == Some(t0) {
+            run.nodes[0] = run.nodes[N_NODES - 1];
+        } else {
+            table.fill(&self.outputs_of(t0, &start), &mut run.nodes[0]);
+        }
+        table.fill(&self.outputs_of(t1, &end), &mut run.nodes[N_NODES - 1]);
+        run.nodes_end = Some(t1);
         for (node, &t) in run.nodes[1..N_NODES - 1].iter_mut().zip(&times[1..]) {
             let c = Captured::evaluate(model, inputs, t, &run.stepper.dense(t));
-            *node = table.row(&self.outputs_of(t, &c));
+            table.fill(&self.outputs_of(t, &c), node);
         }
         let t = t0 + CHECK_POINT * h;
         let c = Captured::evaluate(model, inputs, t, &run.stepper.dense(t));
