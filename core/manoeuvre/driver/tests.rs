@@ -1,6 +1,9 @@
 //! Tests of the driver models.
 
+use std::f64::consts::PI;
+
 use super::*;
+use crate::manoeuvre::TurnDirection;
 use approx::assert_relative_eq;
 
 const L: f64 = 2.7;
@@ -116,10 +119,8 @@ fn bad_settings_give_nan_not_panic() {
     assert!(follower.update(&toy.view(), DT).is_nan());
     follower.integral_time = None;
     assert!(follower.update(&toy.view(), DT).is_finite());
-    let mut c = SpeedController {
-        ki: -1.0,
-        ..Default::default()
-    };
+    let mut c = SpeedController::default();
+    c.ki = -1.0;
     assert_eq!(c.update(20.0, 10.0, 0.01), (0.0, 0.0));
 }
 
