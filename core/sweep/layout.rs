@@ -130,6 +130,20 @@ mod tests {
     use super::*;
 
     #[test]
+    fn resume_points_round_trip_and_refuse_negative_counts() {
+        let point = ResumePoint {
+            rows: 128,
+            samples: 12_345,
+            metrics: 2,
+            criteria: 1,
+            checksum: 0xfedc_ba98_7654_3210,
+        };
+        assert_eq!(ResumePoint::from_values(&point.to_values()), Some(point));
+        assert_eq!(ResumePoint::from_values(&[1, -2, 0, 0, 7]), None);
+        assert_eq!(ResumePoint::from_values(&[1, 2, 0, 0]), None);
+    }
+
+    #[test]
     fn sample_chunks_are_powers_of_two_in_range() {
         assert_eq!(sample_chunk(0), 1024);
         assert_eq!(sample_chunk(100), 1024);
