@@ -159,3 +159,7 @@ impl UnfinishedSweep {
         }
     }
 }
+
+#[cfg(test)]
+#[path = "resume_tests.rs"]
+mod tests;
