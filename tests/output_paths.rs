@@ -178,9 +178,10 @@ fn wait_for_temp(dir: &Path, limit: Duration) -> bool {
     false
 }
 
-/// A sweep killed part-way: SIGTERM removes its temporary file and exits
-/// 128 + 15; a SIGKILL leaves it, and the next run on the same path
-/// removes it.
+/// A sweep killed before it wrote its first block of cases: SIGTERM,
+/// SIGINT and SIGHUP remove its temporary file and exit 128 + the signal (a
+/// sweep with finished cases keeps it: `tests/sweep_resume.rs`); a SIGKILL
+/// leaves it, and the next run on the same path removes it.
 #[test]
 fn signals_remove_temporary_files_and_leftovers_of_a_kill_are_cleaned() {
     let dir = TempDir::new();

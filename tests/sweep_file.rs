@@ -338,3 +338,67 @@ fn old_layout_is_refused_naming_both_versions() {
     }
     assert!(!dir.path().join("merged.h5").exists());
 }
+
+/// A sweep taken up from the unfinished file it left part-way (a copy of
+/// its temporary file made while case 150 ran: two blocks of 64 complete,
+/// the third not yet written) runs only the other cases and writes the same
+/// file as an uninterrupted sweep, columns first reported before and after
+/// the resume point included.
+#[test]
+fn a_resumed_sweep_equals_the_uninterrupted_one() {
+    use yawdyn::sweep::{Resume, find_unfinished, resume_sweep};
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("r.h5");
+    // A pid above any pid_max: the copy is the file of a process that no longer runs.
+    let copy = dir.path().join(".r.h5.yawdyn-tmp-2147483646-0");
+    let spec = spec_of(300);
+    // `synthetic`, plus a metric first reported at case 200.
+    let with_late_metric = |o: &[Override]| {
+        let mut record = synthetic(o)?;
+        if number(o) >= 200 {
+            record.metrics.push(Metric {
+                name: "after_resume".into(),
+                value: value(o),
+                unit: "m".into(),
+            });
+        }
+        Ok(record)
+    };
+    let stopping = |o: &[Override]| {
+        if number(o) == 150 {
+            let temp = std::fs::read_dir(dir.path())
+                .unwrap()
+                .map(|e| e.unwrap().path())
+                .find(|p| p.to_string_lossy().contains(".r.h5.yawdyn-tmp-"))
+                .unwrap();
+            std::fs::copy(temp, &copy).unwrap();
+        }
+        with_late_metric(o)
+    };
+    run_sweep(&spec, &options(1, Shard::WHOLE), &stopping, &out).unwrap();
+    let full = bytes_without_stamp(&out);
+    std::fs::remove_file(&out).unwrap();
+    let from = find_unfinished(&out).unwrap().expect("the unfinished copy");
+    assert_eq!((from.cases, from.path.as_path()), (128, copy.as_path()));
+    let ran = AtomicUsize::new(0);
+    let counting = |o: &[Override]| {
+        ran.fetch_add(1, Ordering::Relaxed);
+        with_late_metric(o)
+    };
+    let resume = Resume {
+        from: Some(&from),
+        note_on_signal: None,
+    };
+    let report = resume_sweep(&spec, &options(2, Shard::WHOLE), &counting, &out, &resume).unwrap();
+    assert_eq!(report.resumed, 128);
+    assert_eq!(ran.load(Ordering::Relaxed), 300 - 128);
+    assert_eq!(bytes_without_stamp(&out), full);
+    assert!(!copy.exists());
+    // Another grid is refused as bad input.
+    std::fs::remove_file(&out).unwrap();
+    run_sweep(&spec, &options(1, Shard::WHOLE), &stopping, &out).unwrap();
+    let from = find_unfinished(&out).unwrap().unwrap();
+    let err = from.check_matches(&spec_of(301), Shard::WHOLE).unwrap_err();
+    assert_eq!(err.kind(), ErrorKind::BadInput);
+    assert!(err.to_string().contains("--vary"), "{err}");
+}

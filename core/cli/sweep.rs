@@ -14,7 +14,8 @@ use yawdyn::script::{
     manoeuvre_parameter_units, run_script,
 };
 use yawdyn::sweep::{
-    CaseStatus, Grid, Shard, SweepOptions, SweepReport, SweepSpec, VaryAxis, run_sweep,
+    CaseStatus, Grid, Resume, Shard, SweepOptions, SweepReport, SweepSpec, VaryAxis,
+    find_unfinished, resume_sweep,
 };
 use yawdyn::table::{Table, fmt_num};
 
@@ -59,6 +60,13 @@ pub struct Args {
     /// Channels to store per case, comma-separated (default: all).
     #[arg(long, value_delimiter = ',', value_name = "A,B,...")]
     channels: Option<Vec<String>>,
+    /// Take up the finished cases of a stopped sweep to the same --out (its
+    /// unfinished file, kept on Ctrl-C, SIGTERM or SIGHUP and left by a
+    /// SIGKILL) and run only the others. Every option must equal the
+    /// stopped sweep's (exit 2 naming what differs). Without an unfinished
+    /// file, every case runs.
+    #[arg(long)]
+    resume: bool,
     /// No progress bar or progress lines.
     #[arg(long)]
     quiet: bool,
@@ -79,6 +87,7 @@ struct Config {
     shard: Shard,
     jobs: usize,
     out: PathBuf,
+    resume: bool,
     quiet: bool,
     json: bool,
     limits: Limits,
@@ -123,16 +132,41 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
             .with_context(|| format!("cannot read vehicle file {}", path.display()))?;
     }
     let runner = script_case_runner(&config.script, config.vehicle.as_deref(), config.limits);
+    // The stopped sweep to take up, checked before any case runs.
+    let unfinished = if config.resume {
+        let found = find_unfinished(&config.out)?;
+        match &found {
+            Some(from) => from.check_matches(&config.spec, config.shard)?,
+            None => eprintln!(
+                "sweep: no unfinished sweep to {} to take up; running every case",
+                config.out.display()
+            ),
+        }
+        found
+    } else {
+        None
+    };
 
     let range = config.shard.range(config.spec.grid.len());
     let progress = case_progress("sweep", range.len(), config.quiet || config.json);
+    if let Some(from) = &unfinished {
+        progress.resume_at(from.cases as u64);
+    }
     let tick = || progress.inc();
     let options = SweepOptions {
         jobs: config.jobs,
         shard: config.shard,
         progress: Some(&tick),
     };
-    let report = run_sweep(&config.spec, &options, &runner, &config.out)?;
+    let note = format!(
+        "sweep: stopped; its finished cases are kept. To go on, run: {}",
+        resume_command()
+    );
+    let resume = Resume {
+        from: unfinished.as_ref(),
+        note_on_signal: Some(&note),
+    };
+    let report = resume_sweep(&config.spec, &options, &runner, &config.out, &resume)?;
     progress.finish();
     if config.json {
         outln!(
@@ -147,6 +181,28 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
     } else {
         Outcome::Failed
     })
+}
+
+/// This command as typed, with `--resume` (added when missing), quoted for
+/// a POSIX shell where needed.
+fn resume_command() -> String {
+    let mut words: Vec<String> = std::env::args().collect();
+    if !words.iter().skip(1).any(|w| w == "--resume") {
+        words.push("--resume".to_string());
+    }
+    let quoted: Vec<String> = words.iter().map(|w| shell_word(w)).collect();
+    quoted.join(" ")
+}
+
+/// `word` as one word of a POSIX shell: unchanged when it holds only
+/// characters no shell treats specially, else in single quotes.
+fn shell_word(word: &str) -> String {
+    let plain = |c: char| c.is_ascii_alphanumeric() || "_-./=:,+@%".contains(c);
+    if !word.is_empty() && word.chars().all(plain) {
+        word.to_string()
+    } else {
+        format!("'{}'", word.replace('\'', "'\\''"))
+    }
 }
 
 /// The progress of commands that run cases on the sweep engine: hidden with
@@ -239,6 +295,7 @@ fn check(args: Args) -> anyhow::Result<Config> {
         shard,
         jobs,
         out,
+        resume: args.resume,
         quiet: args.quiet,
         json: args.json,
         limits,
@@ -358,7 +415,8 @@ fn is_key_problem(config: &Config, issue: &yawdyn::params::ParamIssue) -> bool {
 /// N]`), `case_total`, `jobs`, `status_counts`, `failed` (cases not
 /// completed and passed), `grid` (`{key, unit, start, stop, count}`),
 /// `metrics` (`{name, units, min, max, cases}`), `wall_time_s`,
-/// `writer_cpu_s`. Non-finite numbers are null.
+/// `writer_cpu_s`, `resumed` (cases taken from a stopped sweep's
+/// unfinished file, not run again). Non-finite numbers are null.
 fn report_json(config: &Config, report: &SweepReport) -> Value {
     let number = |x: f64| serde_json::Number::from_f64(x).map_or(Value::Null, Value::Number);
     let s = &report.summary;
@@ -406,6 +464,7 @@ fn report_json(config: &Config, report: &SweepReport) -> Value {
         "metrics": metrics,
         "wall_time_s": number(report.wall_time_s),
         "writer_cpu_s": number(report.writer_cpu_s),
+        "resumed": report.resumed,
     })
 }
 
@@ -473,6 +532,13 @@ fn print_report(config: &Config, report: &SweepReport) {
         count(CaseStatus::Failed),
         count(CaseStatus::Error)
     );
+    if report.resumed > 0 {
+        outln!(
+            "resumed: {} cases taken from the stopped sweep, {} run now",
+            report.resumed,
+            s.len() - report.resumed
+        );
+    }
     outln!(
         "wall time: {} s on {} threads (writing {} s CPU); written to {}",
         fmt_num(report.wall_time_s, 3),

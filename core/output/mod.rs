@@ -26,6 +26,12 @@
 //!   then exits with 128 + the signal number). One left by a process killed
 //!   with SIGKILL is removed by the next write to the same final path, once
 //!   no process with its pid runs.
+//! - **Unfinished sweeps are kept.** A sweep marks its temporary file with
+//!   [`TempFile::keep_on_signal`] once it holds finished cases: a signal
+//!   then keeps it (and says so on standard error) so that `sweep --resume`
+//!   can take the cases up ([`unfinished_outputs`] lists such files,
+//!   [`TempFile::create_keeping`] leaves them in place while they are
+//!   read). Any other write to the same path removes them as above.
 //!
 //! Errors are [`OutputError`]s: a refused or unusable path is bad input,
 //! a failure while writing (disk full) is the environment.
@@ -42,7 +48,7 @@ use thiserror::Error;
 use crate::error::{Classify, ErrorKind, io_kind};
 
 pub use signals::install_signal_cleanup;
-pub use temp::{TEMP_MARK, TempFile};
+pub use temp::{TEMP_MARK, TempFile, unfinished_outputs};
 
 /// Why an output path cannot be written.
 #[derive(Debug, Error)]

@@ -2,10 +2,13 @@
 //!
 //! SIGINT, SIGTERM and SIGHUP are blocked in every thread and taken by one
 //! thread with `sigwait` (POSIX.1-2017, `sigwait`), which removes the
-//! registered temporary files and ends the process with 128 + the signal
+//! registered temporary files (or keeps those marked with
+//! [`TempFile::keep_on_signal`](super::TempFile::keep_on_signal), saying so
+//! on standard error) and ends the process with 128 + the signal
 //! number (the status a shell reports for a command ended by that signal).
 //! No code runs inside an asynchronous signal handler.
 
+use std::io::Write;
 use std::thread;
 
 use super::temp::remove_registered;
@@ -39,7 +42,9 @@ pub fn install_signal_cleanup() {
                 let mut signal: libc::c_int = 0;
                 // SAFETY: `set` is initialised; `signal` is a valid out pointer.
                 if unsafe { libc::sigwait(&set, &mut signal) } == 0 {
-                    remove_registered();
+                    for note in remove_registered() {
+                        tell(&note);
+                    }
                     // SAFETY: ends the process without running exit handlers
                     // (the HDF5 library's may not run while another thread
                     // is inside it).
@@ -53,4 +58,9 @@ pub fn install_signal_cleanup() {
             libc::pthread_sigmask(libc::SIG_UNBLOCK, &set, std::ptr::null_mut());
         }
     }
+}
+
+/// One line on standard error (a closed stream is ignored).
+fn tell(note: &str) {
+    let _ = writeln!(std::io::stderr(), "{note}");
 }

@@ -17,28 +17,47 @@ pub const TEMP_MARK: &str = ".yawdyn-tmp-";
 /// Distinguishes temporary files of concurrent writers in one process.
 static TEMP_COUNTER: AtomicU64 = AtomicU64::new(0);
 
-/// Temporary files of this process not yet renamed or removed; a
-/// terminating signal removes them ([`remove_registered`]).
-static LIVE: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+/// A temporary file of this process not yet renamed or removed.
+struct Live {
+    path: PathBuf,
+    /// Kept on a terminating signal, with this text for standard error
+    /// ([`TempFile::keep_on_signal`]); removed when `None`.
+    keep: Option<String>,
+}
 
-/// Removes every registered temporary file (called on a terminating signal).
-pub(super) fn remove_registered() {
+/// Temporary files of this process not yet renamed or removed; a
+/// terminating signal removes them, or keeps those marked to be kept
+/// ([`remove_registered`]).
+static LIVE: Mutex<Vec<Live>> = Mutex::new(Vec::new());
+
+/// Removes every registered temporary file not marked to be kept (called on
+/// a terminating signal); returns the notes of the kept ones, each followed
+/// by its path.
+pub(super) fn remove_registered() -> Vec<String> {
     let live = LIVE.lock().unwrap_or_else(|e| e.into_inner());
-    for path in live.iter() {
-        let _ = fs::remove_file(path);
+    let mut notes = Vec::new();
+    for file in live.iter() {
+        match &file.keep {
+            Some(note) => notes.push(format!("{note} (unfinished file: {})", file.path.display())),
+            None => {
+                let _ = fs::remove_file(&file.path);
+            }
+        }
     }
+    notes
 }
 
 fn register(path: &Path) {
-    LIVE.lock()
-        .unwrap_or_else(|e| e.into_inner())
-        .push(path.to_path_buf());
+    LIVE.lock().unwrap_or_else(|e| e.into_inner()).push(Live {
+        path: path.to_path_buf(),
+        keep: None,
+    });
 }
 
 fn unregister(path: &Path) {
     LIVE.lock()
         .unwrap_or_else(|e| e.into_inner())
-        .retain(|p| p != path);
+        .retain(|p| p.path != path);
 }
 
 /// The temporary file of an output being written. Dropped before
@@ -58,6 +77,13 @@ impl TempFile {
     /// temporary file beside the target (mode 0666 less the umask, or the
     /// mode of the file it will replace).
     pub fn create(path: &Path) -> Result<TempFile, OutputError> {
+        TempFile::create_keeping(path, &[])
+    }
+
+    /// [`TempFile::create`], except that the temporary files in `keep`
+    /// (unfinished outputs of dead processes that this one reads, see
+    /// [`unfinished_outputs`]) are not removed.
+    pub fn create_keeping(path: &Path, keep: &[PathBuf]) -> Result<TempFile, OutputError> {
         let target = resolve_output(path)?;
         let dir = parent_dir(&target);
         fs::create_dir_all(dir).map_err(OutputError::io(dir, "creating the output directory"))?;
@@ -66,7 +92,7 @@ impl TempFile {
             .ok_or_else(|| OutputError::refused(path, "the path names no file"))?
             .to_string_lossy()
             .into_owned();
-        remove_stale(dir, &name);
+        remove_stale(dir, &name, keep);
         let n = TEMP_COUNTER.fetch_add(1, Ordering::Relaxed);
         let temp = dir.join(format!(".{name}{TEMP_MARK}{}-{n}", std::process::id()));
         register(&temp);
@@ -106,6 +132,18 @@ impl TempFile {
     /// The temporary file to write.
     pub fn path(&self) -> &Path {
         &self.temp
+    }
+
+    /// From now on, a terminating signal (SIGINT, SIGTERM, SIGHUP) keeps
+    /// this file instead of removing it and prints `note` and the file's
+    /// path on standard error: for outputs whose unfinished file can be
+    /// taken up again (a sweep's finished cases). Errors and drops still
+    /// remove it.
+    pub fn keep_on_signal(&self, note: &str) {
+        let mut live = LIVE.lock().unwrap_or_else(|e| e.into_inner());
+        if let Some(file) = live.iter_mut().find(|f| f.path == self.temp) {
+            file.keep = Some(note.to_string());
+        }
     }
 
     /// The file that [`TempFile::commit`] replaces (the output after
@@ -168,13 +206,25 @@ pub(super) fn probe(dir: &Path) -> Result<(), OutputError> {
 }
 
 /// Removes from `dir` the temporary files of target `name` whose process no
-/// longer runs (left by a process killed with SIGKILL), including those of
-/// earlier versions (`.<name>.tmp-<pid>…`).
-fn remove_stale(dir: &Path, name: &str) {
+/// longer runs (left by a process killed with SIGKILL, or kept on a signal),
+/// including those of earlier versions (`.<name>.tmp-<pid>…`), except those
+/// in `keep`.
+fn remove_stale(dir: &Path, name: &str, keep: &[PathBuf]) {
+    for path in stale_files(dir, name) {
+        if !keep.contains(&path) {
+            let _ = fs::remove_file(path);
+        }
+    }
+}
+
+/// The temporary files in `dir` of target `name` whose process no longer
+/// runs, sorted by name.
+fn stale_files(dir: &Path, name: &str) -> Vec<PathBuf> {
     let Ok(entries) = fs::read_dir(dir) else {
-        return;
+        return Vec::new();
     };
     let prefixes = [format!(".{name}{TEMP_MARK}"), format!(".{name}.tmp-")];
+    let mut stale = Vec::new();
     for entry in entries.flatten() {
         let file_name = entry.file_name();
         let Some(file_name) = file_name.to_str() else {
@@ -189,9 +239,25 @@ fn remove_stale(dir: &Path, name: &str) {
         let pid = rest.split('-').next().and_then(|p| p.parse::<i32>().ok());
         let is_file = entry.file_type().is_ok_and(|t| t.is_file());
         if is_file && pid.is_some_and(|pid| pid > 0 && !process_runs(pid)) {
-            let _ = fs::remove_file(entry.path());
+            stale.push(entry.path());
         }
     }
+    stale.sort();
+    stale
+}
+
+/// The unfinished temporary files of the output `path` (resolved by the
+/// rules of [`crate::output`]) left by processes that no longer run: a
+/// command killed with SIGKILL, or a sweep that kept its file on a signal.
+/// The next write to `path` removes them unless it is told to keep them
+/// ([`TempFile::create_keeping`]). Files of running processes are never
+/// listed.
+pub fn unfinished_outputs(path: &Path) -> Result<Vec<PathBuf>, OutputError> {
+    let target = resolve_output(path)?;
+    let Some(name) = target.file_name().and_then(|n| n.to_str()) else {
+        return Ok(Vec::new());
+    };
+    Ok(stale_files(parent_dir(&target), name))
 }
 
 /// Whether a process with this pid exists (a process of another user counts).

@@ -18,8 +18,10 @@ use std::time::Instant;
 use crate::params::Override;
 use crate::results::{RunRecord, RunStatus};
 
+use super::reader::for_each_case;
+use super::resume::UnfinishedSweep;
 use super::stamp::{utc_now, yawdyn_version};
-use super::writer::{Stamp, SweepWriter};
+use super::writer::{Stamp, SweepWriter, TempOptions};
 use super::{CaseStatus, Shard, Summary, SweepCase, SweepError, SweepSpec};
 
 /// A case runner: runs one case with the given overrides (base `--set`s, then
@@ -96,6 +98,9 @@ pub struct SweepReport {
     pub out: PathBuf,
     /// The summary written to it.
     pub summary: Summary,
+    /// Cases taken from the unfinished file of a stopped sweep (0 unless
+    /// resumed; these were not run again).
+    pub resumed: usize,
     /// Wall-clock time of the whole sweep, s.
     pub wall_time_s: f64,
     /// CPU time of the calling thread from the first case handed out to the
@@ -150,27 +155,96 @@ pub fn run_sweep(
     runner: &CaseRunner<'_>,
     out: &Path,
 ) -> Result<SweepReport, SweepError> {
+    resume_sweep(spec, options, runner, out, &Resume::default())
+}
+
+/// How [`resume_sweep`] treats unfinished sweeps.
+#[derive(Debug, Default, Clone, Copy)]
+pub struct Resume<'a> {
+    /// The stopped sweep to take up ([`crate::sweep::find_unfinished`]);
+    /// `None` runs every case.
+    pub from: Option<&'a UnfinishedSweep>,
+    /// When set, a terminating signal (SIGINT, SIGTERM, SIGHUP) after the
+    /// first block of cases is written keeps the temporary file, to be
+    /// taken up later, and prints this note on standard error (see
+    /// [`crate::output::TempFile::keep_on_signal`]); otherwise the file is
+    /// removed.
+    pub note_on_signal: Option<&'a str>,
+}
+
+/// [`run_sweep`], taking up the finished cases of a stopped sweep
+/// (`resume.from`): refused ([`SweepError::Mismatch`]) unless it is the
+/// same sweep ([`UnfinishedSweep::check_matches`]). Its cases are fed to a
+/// new writer in case order and checked to read back as they were written
+/// (else [`SweepError::Format`]); the other cases run as in [`run_sweep`].
+/// The file written equals the one an uninterrupted sweep writes, byte for
+/// byte when both ran with the same `created_utc`: the stopped sweep's is
+/// kept. Once the file is in place, the unfinished files of the output are
+/// removed; on any error they are left as they were.
+pub fn resume_sweep(
+    spec: &SweepSpec,
+    options: &SweepOptions<'_>,
+    runner: &CaseRunner<'_>,
+    out: &Path,
+    resume: &Resume<'_>,
+) -> Result<SweepReport, SweepError> {
     let started = Instant::now();
     if options.jobs == 0 {
         return Err(SweepError::Option("--jobs must be at least 1".to_string()));
     }
+    if let Some(from) = resume.from {
+        from.check_matches(spec, options.shard)?;
+    }
     // The output file first: a bad output path costs no case.
-    let created = utc_now();
+    let created = resume
+        .from
+        .map_or_else(utc_now, |from| from.file.created_utc.clone());
     let version = yawdyn_version();
     let stamp = Stamp {
         created_utc: &created,
         yawdyn_version: &version,
         shard: options.shard,
     };
-    let mut writer = SweepWriter::create(out, spec, &stamp)?;
+    let temp = TempOptions {
+        keep: resume.from.map_or(&[][..], |from| &from.leftovers[..]),
+        note_on_signal: resume.note_on_signal,
+    };
+    let mut writer = SweepWriter::create(out, spec, &stamp, &temp)?;
     let range = options.shard.range(spec.grid.len());
     let cpu_at_start = thread_cpu_time_s();
-    run_cases(spec, range, options, runner, |case| writer.write_case(case))?;
+    // The finished cases of the stopped sweep, as it wrote them.
+    let mut resumed = 0;
+    if let Some(from) = resume.from {
+        for_each_case(&from.file, |case| writer.write_case(case))?;
+        // A file stopped while being closed holds every case, its last
+        // block written short, as at the end of every sweep.
+        if from.cases >= range.len() {
+            writer.end_block()?;
+        }
+        if writer.resume_point() != from.point {
+            return Err(SweepError::Format {
+                path: from.path.clone(),
+                reason: "its finished cases do not read back as they were written (damaged \
+                         when the sweep stopped); leave out --resume to start again"
+                    .to_string(),
+            });
+        }
+        resumed = from.cases;
+    }
+    let rest = (range.start + resumed).min(range.end)..range.end;
+    run_cases(spec, rest, options, runner, |case| writer.write_case(case))?;
     // The last block, then the file under its final name.
     let summary = writer.finish()?;
+    if let Some(from) = resume.from {
+        for leftover in &from.leftovers {
+            // Best effort: another resume of the same output may have removed it.
+            let _ = std::fs::remove_file(leftover);
+        }
+    }
     Ok(SweepReport {
         out: out.to_path_buf(),
         summary,
+        resumed,
         wall_time_s: started.elapsed().as_secs_f64(),
         writer_cpu_s: thread_cpu_time_s() - cpu_at_start,
     })

@@ -47,6 +47,56 @@ pub(crate) const CHANNEL_ORDER: &str = "channel_order";
 /// Group of concatenated channels.
 pub(crate) const CHANNELS: &str = "channels";
 
+/// Root attribute of an unfinished file only (removed when the file is
+/// complete): the [`ResumePoint`] of its last complete block, i64\[5\].
+pub(crate) const UNFINISHED: &str = "unfinished";
+
+/// How much of an unfinished sweep file is complete: written before the
+/// last flush to disk of the file, read by `sweep --resume`. Stored as the
+/// root attribute [`UNFINISHED`], in the order of the fields.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct ResumePoint {
+    /// Summary rows complete (cases, in case order from the file's first).
+    pub rows: usize,
+    /// Samples of those rows (per channel and in `/time`).
+    pub samples: usize,
+    /// Entries of `/summary/metric_order` that belong to those rows.
+    pub metrics: usize,
+    /// Entries of `/summary/criterion_order` that belong to those rows.
+    pub criteria: usize,
+    /// Checksum of everything the writer wrote for those rows
+    /// (`writer::Checksum`).
+    pub checksum: u64,
+}
+
+impl ResumePoint {
+    /// The attribute's values.
+    pub(crate) fn to_values(self) -> [i64; 5] {
+        [
+            self.rows as i64,
+            self.samples as i64,
+            self.metrics as i64,
+            self.criteria as i64,
+            self.checksum as i64,
+        ]
+    }
+
+    /// The point stored as `values`; `None` when they cannot be one.
+    pub(crate) fn from_values(values: &[i64]) -> Option<ResumePoint> {
+        let count = |v: i64| usize::try_from(v).ok();
+        match *values {
+            [rows, samples, metrics, criteria, checksum] => Some(ResumePoint {
+                rows: count(rows)?,
+                samples: count(samples)?,
+                metrics: count(metrics)?,
+                criteria: count(criteria)?,
+                checksum: checksum as u64,
+            }),
+            _ => None,
+        }
+    }
+}
+
 /// Rows per HDF5 chunk of the summary columns (4 KiB of f64).
 pub(crate) const SUMMARY_CHUNK: usize = 512;
 /// Entries per HDF5 chunk of the growing name lists.
@@ -78,6 +128,20 @@ pub(crate) fn sample_chunk(samples: usize) -> usize {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn resume_points_round_trip_and_refuse_negative_counts() {
+        let point = ResumePoint {
+            rows: 128,
+            samples: 12_345,
+            metrics: 2,
+            criteria: 1,
+            checksum: 0xfedc_ba98_7654_3210,
+        };
+        assert_eq!(ResumePoint::from_values(&point.to_values()), Some(point));
+        assert_eq!(ResumePoint::from_values(&[1, -2, 0, 0, 7]), None);
+        assert_eq!(ResumePoint::from_values(&[1, 2, 0, 0]), None);
+    }
 
     #[test]
     fn sample_chunks_are_powers_of_two_in_range() {

@@ -6,7 +6,7 @@ use std::time::Instant;
 use super::engine::thread_cpu_time_s;
 use super::reader::{SweepFile, for_each_case, read_sweep};
 use super::stamp::utc_now;
-use super::writer::{Stamp, SweepWriter};
+use super::writer::{Stamp, SweepWriter, TempOptions};
 use super::{CaseStatus, Shard, SweepError, SweepReport, SweepSpec};
 use crate::params::Override;
 
@@ -40,7 +40,7 @@ pub fn merge_sweeps(out: &Path, shards: &[PathBuf]) -> Result<SweepReport, Sweep
         shard: Shard::WHOLE,
     };
     let cpu_at_start = thread_cpu_time_s();
-    let mut writer = SweepWriter::create(out, &files[0].spec, &stamp)?;
+    let mut writer = SweepWriter::create(out, &files[0].spec, &stamp, &TempOptions::default())?;
     for f in &files {
         for_each_case(f, |case| writer.write_case(case))?;
     }
@@ -48,6 +48,7 @@ pub fn merge_sweeps(out: &Path, shards: &[PathBuf]) -> Result<SweepReport, Sweep
     Ok(SweepReport {
         out: out.to_path_buf(),
         summary,
+        resumed: 0,
         wall_time_s: started.elapsed().as_secs_f64(),
         writer_cpu_s: thread_cpu_time_s() - cpu_at_start,
     })

@@ -97,6 +97,24 @@
 //! samples first and `/summary/case_index` last, so the rows covered by
 //! `case_index` are complete. Files of layout version 1 (one group per case)
 //! are refused with a message naming both versions.
+//!
+//! # Unfinished files and `--resume`
+//!
+//! After each block the writer flushes the file to disk, records in the
+//! root attribute `unfinished` how much of it is complete (rows, samples,
+//! metric and criterion names, a checksum of all written:
+//! `layout::ResumePoint`) and flushes again; the attribute is removed when
+//! the file is complete, and [`read_sweep`] refuses a file that has it. A
+//! sweep stopped by a signal (with [`Resume::note_on_signal`]) keeps its
+//! temporary file once a block is in it; SIGKILL leaves it.
+//! [`find_unfinished`] reads the complete part of such a file (of a process
+//! that no longer runs) and [`resume_sweep`] feeds its cases to a new writer
+//! in case order, checks the checksum, runs the remaining cases and writes
+//! the file under its final name: the same bytes as an uninterrupted sweep
+//! (the stopped sweep's `created_utc` is kept), since the writer's blocks
+//! and every call to the HDF5 library are the same. The cases after the last
+//! complete block (fewer than 64 written ones, and those still running or
+//! waiting for their turn) run again.
 
 mod case;
 mod engine;
@@ -104,6 +122,7 @@ mod grid;
 mod layout;
 mod merge;
 mod reader;
+mod resume;
 mod stamp;
 mod writer;
 
@@ -116,11 +135,14 @@ use crate::params::Override;
 use crate::results::Access;
 
 pub use case::{Summary, SummaryCriterion, SummaryMetric, SweepCase};
-pub use engine::{CaseList, CaseRunner, SweepOptions, SweepReport, run_cases, run_sweep};
+pub use engine::{
+    CaseList, CaseRunner, Resume, SweepOptions, SweepReport, resume_sweep, run_cases, run_sweep,
+};
 pub use grid::{Grid, Shard, VaryAxis};
 pub use merge::merge_sweeps;
 pub(crate) use reader::for_each_case;
 pub use reader::{SweepFile, read_sweep};
+pub use resume::{UnfinishedSweep, find_unfinished};
 pub use stamp::{utc_now, yawdyn_version};
 
 /// Value of the root `format` attribute of a sweep file.

@@ -191,8 +191,45 @@ impl SweepFile {
 
 /// Reads a sweep file's spec and summary, checking that its columns fit
 /// together. A file of another layout version gives
-/// [`SweepError::UnsupportedVersion`].
+/// [`SweepError::UnsupportedVersion`]; the unfinished file of a sweep that
+/// was stopped is refused (it is read by `sweep --resume`).
 pub fn read_sweep(path: &Path) -> Result<SweepFile, SweepError> {
+    let (file, point) = read_file(path, Part::Complete)?;
+    match point {
+        None => Ok(file),
+        Some(point) => Err(SweepError::Format {
+            path: path.to_path_buf(),
+            reason: format!(
+                "an unfinished sweep file ({} of its {} cases written): take it up with \
+                 `yawdyn sweep --resume`",
+                point.rows,
+                file.shard.range(file.case_total).len()
+            ),
+        }),
+    }
+}
+
+/// Reads the unfinished file of a stopped sweep: the cases up to its
+/// [`ResumePoint`] (rows beyond it, written in part when the sweep was
+/// stopped, are not read), with every check of [`read_sweep`]. `None` when
+/// the file records no finished block.
+pub(crate) fn read_unfinished(path: &Path) -> Result<Option<(SweepFile, ResumePoint)>, SweepError> {
+    let (file, point) = read_file(path, Part::Unfinished)?;
+    Ok(point.map(|point| (file, point)))
+}
+
+/// Which part of a file to read.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Part {
+    /// Every row: a complete file.
+    Complete,
+    /// The rows of its resume point: an unfinished file.
+    Unfinished,
+}
+
+/// Reads a sweep file (all of it, or the part up to its resume point) and
+/// its resume point, if it has one.
+fn read_file(path: &Path, part: Part) -> Result<(SweepFile, Option<ResumePoint>), SweepError> {
     let ctx = H5Context::reader(path);
     let file = ctx.open_file()?;
     let format = ctx
@@ -233,9 +270,20 @@ pub fn read_sweep(path: &Path) -> Result<SweepFile, SweepError> {
             .invalid("case_total does not match the vary spec")
             .into());
     }
-    let (summary, sample_start, sample_count) = read_summary(&ctx, &file, &spec.grid)?;
-    let channels = read_channels(&ctx, &file, &sample_start, &sample_count)?;
-    Ok(SweepFile {
+    let point = match ctx.read_attr_i64s(&file, UNFINISHED)? {
+        Some(values) => Some(
+            ResumePoint::from_values(&values)
+                .ok_or_else(|| ctx.invalid(format!("attribute {UNFINISHED} is damaged")))?,
+        ),
+        None => None,
+    };
+    let limit = match part {
+        Part::Unfinished => point,
+        Part::Complete => None,
+    };
+    let (summary, sample_start, sample_count) = read_summary(&ctx, &file, &spec.grid, limit)?;
+    let channels = read_channels(&ctx, &file, &sample_start, &sample_count, limit)?;
+    let sweep = SweepFile {
         path: path.to_path_buf(),
         created_utc: ctx.read_attr_str(&file, "created_utc")?,
         yawdyn_version: ctx.read_attr_str(&file, "yawdyn_version")?,
@@ -246,7 +294,8 @@ pub fn read_sweep(path: &Path) -> Result<SweepFile, SweepError> {
         channels,
         sample_start,
         sample_count,
-    })
+    };
+    Ok((sweep, point))
 }
 
 /// Reads `/spec` and the root attributes that belong to it.
@@ -318,11 +367,46 @@ fn read_spec(ctx: &H5Context, file: &File) -> Result<SweepSpec, SweepError> {
 /// The summary table, with the sample start and count of each row.
 type SummaryRead = (Summary, Vec<usize>, Vec<usize>);
 
-/// Reads `/summary`, checking its case indices against `grid`, the lengths
-/// of its columns and that the rows' samples follow one another.
-fn read_summary(ctx: &H5Context, file: &File, grid: &Grid) -> Result<SummaryRead, SweepError> {
+/// Reads a column (all of it, or its first `rows` elements).
+fn read_column<T: hdf5::H5Type>(
+    ctx: &H5Context,
+    group: &Group,
+    name: &str,
+    rows: Option<usize>,
+) -> Result<Vec<T>, H5Error> {
+    let ds = ctx.open_dataset(group, name)?;
+    match rows {
+        Some(rows) => ctx.read_range(&ds, 0..rows),
+        None => ctx.read_1d_from(&ds),
+    }
+}
+
+/// Reads a text column (all of it, or its first `rows` elements).
+fn read_texts(
+    ctx: &H5Context,
+    group: &Group,
+    name: &str,
+    rows: Option<usize>,
+) -> Result<Vec<String>, H5Error> {
+    let ds = ctx.open_dataset(group, name)?;
+    match rows {
+        Some(rows) => ctx.read_strs_head(&ds, rows),
+        None => ctx.read_strs_from(&ds),
+    }
+}
+
+/// Reads `/summary` (all rows, or those up to `limit`), checking its case
+/// indices against `grid`, the lengths of its columns and that the rows'
+/// samples follow one another.
+fn read_summary(
+    ctx: &H5Context,
+    file: &File,
+    grid: &Grid,
+    limit: Option<ResumePoint>,
+) -> Result<SummaryRead, SweepError> {
     let g = ctx.open_group(file, SUMMARY)?;
-    let index = ctx.read_1d::<i64>(&g, CASE_INDEX)?;
+    let rows = limit.map(|p| p.rows);
+    let index = read_column::<i64>(ctx, &g, CASE_INDEX, rows)?;
     let n = index.len();
     let mut case_index = Vec::with_capacity(n);
     for (row, &i) in index.iter().enumerate() {
@@ -332,8 +416,7 @@ fn read_summary(ctx: &H5Context, file: &File, grid: &Grid) -> Result<SummaryRead
             .ok_or_else(|| ctx.invalid(format!("row {row}: case index {i} out of order")))?;
         case_index.push(i);
     }
-    let status = ctx
-        .read_strs(&g, STATUS)?
+    let status = read_texts(ctx, &g, STATUS, rows)?
         .iter()
         .map(|text| {
             CaseStatus::from_name(text)
@@ -341,7 +424,7 @@ fn read_summary(ctx: &H5Context, file: &File, grid: &Grid) -> Result<SummaryRead
         })
         .collect::<Result<Vec<_>, _>>()?;
     let counts = |name| -> Result<Vec<usize>, H5Error> {
-        ctx.read_1d::<i64>(&g, name)?
+        read_column::<i64>(ctx, &g, name, rows)?
             .into_iter()
             .map(|v| usize::try_from(v).map_err(|_| ctx.invalid(format!("negative {name}"))))
             .collect()
@@ -351,17 +434,17 @@ fn read_summary(ctx: &H5Context, file: &File, grid: &Grid) -> Result<SummaryRead
     let pg = ctx.open_group(&g, PARAMETERS)?;
     let mut parameters = Vec::new();
     for key in grid.keys() {
-        let values = ctx.read_f64s(&pg, &key)?;
+        let values = read_column(ctx, &pg, &key, rows)?;
         parameters.push((key, values));
     }
     let summary = Summary {
         case_index,
         parameters,
-        metrics: read_metrics(ctx, &g)?,
-        criteria: read_criteria(ctx, &g)?,
+        metrics: read_metrics(ctx, &g, limit)?,
+        criteria: read_criteria(ctx, &g, limit)?,
         status,
-        message: ctx.read_strs(&g, MESSAGE)?,
-        failure_time_s: ctx.read_f64s(&g, FAILURE_TIME)?,
+        message: read_texts(ctx, &g, MESSAGE, rows)?,
+        failure_time_s: read_column(ctx, &g, FAILURE_TIME, rows)?,
     };
     let s = &summary;
     let lengths_ok = [
@@ -394,17 +477,26 @@ fn read_summary(ctx: &H5Context, file: &File, grid: &Grid) -> Result<SummaryRead
     Ok((summary, sample_start, sample_count))
 }
 
-/// Reads the metric columns in `metric_order`.
-fn read_metrics(ctx: &H5Context, summary: &Group) -> Result<Vec<SummaryMetric>, SweepError> {
+/// Reads the metric columns in `metric_order` (those of the rows up to
+/// `limit`).
+fn read_metrics(
+    ctx: &H5Context,
+    summary: &Group,
+    limit: Option<ResumePoint>,
+) -> Result<Vec<SummaryMetric>, SweepError> {
     let group = ctx.open_group(summary, METRICS)?;
     let mut metrics = Vec::new();
-    for name in ctx.read_strs(summary, METRIC_ORDER)? {
+    let names = read_texts(ctx, summary, METRIC_ORDER, limit.map(|p| p.metrics))?;
+    for name in names {
         let ds = ctx.open_dataset(&group, &name)?;
         let first_case = usize::try_from(ctx.read_attr_i64(&ds, FIRST_CASE)?)
             .map_err(|_| ctx.invalid(format!("negative {FIRST_CASE} of metric {name}")))?;
         metrics.push(SummaryMetric {
             unit: ctx.read_attr_str(&ds, "units")?,
-            values: ctx.read_1d_from(&ds)?,
+            values: match limit {
+                Some(p) => ctx.read_range(&ds, 0..p.rows)?,
+                None => ctx.read_1d_from(&ds)?,
+            },
             first_case,
             name,
         });
@@ -412,22 +504,29 @@ fn read_metrics(ctx: &H5Context, summary: &Group) -> Result<Vec<SummaryMetric>, 
     Ok(metrics)
 }
 
-/// Reads the criterion groups in `criterion_order`.
-fn read_criteria(ctx: &H5Context, summary: &Group) -> Result<Vec<SummaryCriterion>, SweepError> {
+/// Reads the criterion groups in `criterion_order` (those of the rows up
+/// to `limit`).
+fn read_criteria(
+    ctx: &H5Context,
+    summary: &Group,
+    limit: Option<ResumePoint>,
+) -> Result<Vec<SummaryCriterion>, SweepError> {
     let group = ctx.open_group(summary, CRITERIA)?;
     let mut criteria = Vec::new();
-    for name in ctx.read_strs(summary, CRITERION_ORDER)? {
+    let rows = limit.map(|p| p.rows);
+    let names = read_texts(ctx, summary, CRITERION_ORDER, limit.map(|p| p.criteria))?;
+    for name in names {
         let g = ctx.open_group(&group, &name)?;
-        let passed: Vec<i8> = ctx.read_1d(&g, CRITERION_PASSED)?;
+        let passed: Vec<i8> = read_column(ctx, &g, CRITERION_PASSED, rows)?;
         if passed.iter().any(|p| !(-1..=1).contains(p)) {
             return Err(ctx
                 .invalid(format!("criterion {name}: `passed` is not 1, 0 or -1"))
                 .into());
         }
         criteria.push(SummaryCriterion {
-            value: ctx.read_f64s(&g, CRITERION_VALUE)?,
-            lower: ctx.read_f64s(&g, CRITERION_LOWER)?,
-            upper: ctx.read_f64s(&g, CRITERION_UPPER)?,
+            value: read_column(ctx, &g, CRITERION_VALUE, rows)?,
+            lower: read_column(ctx, &g, CRITERION_LOWER, rows)?,
+            upper: read_column(ctx, &g, CRITERION_UPPER, rows)?,
             passed,
             name,
         });
@@ -436,23 +535,48 @@ fn read_criteria(ctx: &H5Context, summary: &Group) -> Result<Vec<SummaryCriterio
 }
 
 /// Reads the channel list and checks that `/time` and every channel hold
-/// the samples the summary rows point to.
+/// the samples the summary rows point to (in an unfinished file, read up to
+/// `limit`, at least those, as the resume point says).
 fn read_channels(
     ctx: &H5Context,
     file: &File,
     sample_start: &[usize],
     sample_count: &[usize],
+    limit: Option<ResumePoint>,
 ) -> Result<Vec<ChannelInfo>, SweepError> {
     let total = match (sample_start.last(), sample_count.last()) {
         (Some(s), Some(c)) => s + c,
         _ => 0,
+    };
+    if let Some(point) = limit {
+        if point.samples != total {
+            return Err(ctx
+                .invalid(format!(
+                    "the rows of the unfinished part point to {total} samples, its resume \
+                     point to {}",
+                    point.samples
+                ))
+                .into());
+        }
+        // No case of the finished part ran: the sample datasets may not exist yet.
+        if total == 0 && !file.link_exists(TIME) {
+            return Ok(Vec::new());
+        }
+    }
+    let holds = |size: usize| match limit {
+        Some(_) => size >= total,
+        None => size == total,
     };
     let time = ctx.open_dataset(file, TIME)?;
     let group = ctx.open_group(file, CHANNELS)?;
     let mut list = Vec::new();
     for name in ctx.read_strs(file, CHANNEL_ORDER)? {
         let ds = ctx.open_dataset(&group, &name)?;
-        if ds.size() != time.size() {
+        let same_length = match limit {
+            Some(_) => holds(ds.size()),
+            None => ds.size() == time.size(),
+        };
+        if !same_length {
             return Err(ctx
                 .invalid(format!("channel {name} is not as long as /time"))
                 .into());
@@ -463,7 +587,7 @@ fn read_channels(
             name,
         });
     }
-    if time.ndim() != 1 || time.size() != total {
+    if time.ndim() != 1 || !holds(time.size()) {
         return Err(ctx
             .invalid(format!(
                 "/time has {} samples but the summary rows point to {total}",

@@ -8,8 +8,18 @@
 //! counted from the first case written, so block boundaries depend only on
 //! the cases, never on thread timing; each block is appended with one write
 //! per dataset: samples first, then the summary columns, `case_index` last.
+//!
+//! After each block the file is flushed to disk (HDF5 `H5Fflush`), then the
+//! root attribute `unfinished` records how much of it is complete (rows,
+//! samples, metric and criterion columns, and a checksum of all that was
+//! written: [`ResumePoint`]) and the file is flushed again. A process killed
+//! after that leaves a file whose first `rows` cases can be read back and
+//! taken up by `sweep --resume`, whatever it was doing when killed: the
+//! attribute reaches the file only after the data it counts. The attribute
+//! is removed when the file is complete. Every file, sweep or merge, is
+//! written this way, so their bytes stay equal.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use hdf5::{Dataset, File, Group};
 
@@ -67,6 +77,73 @@ struct Block {
     channels: Vec<Vec<f64>>,
 }
 
+/// A running checksum of 64-bit words (what the writer writes, in order),
+/// to tell whether an unfinished file reads back as it was written. Each
+/// word is folded in as `h = rotl((h ^ w) · p, 31)` with the 64-bit FNV
+/// prime p (Fowler–Noll–Vo hash, applied per word instead of per byte, and
+/// rotated: common practice for a fast non-cryptographic check). Each step
+/// is a bijection of `h`, so a single changed word always changes the sum.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct Checksum(pub u64);
+
+impl Checksum {
+    /// The FNV-1 64-bit offset basis.
+    const START: u64 = 0xcbf2_9ce4_8422_2325;
+    /// The FNV 64-bit prime.
+    const PRIME: u64 = 0x0000_0100_0000_01b3;
+
+    fn new() -> Checksum {
+        Checksum(Checksum::START)
+    }
+
+    fn word(&mut self, w: u64) {
+        self.0 = (self.0 ^ w).wrapping_mul(Checksum::PRIME).rotate_left(31);
+    }
+
+    fn f64s(&mut self, values: &[f64]) {
+        self.word(values.len() as u64);
+        for v in values {
+            self.word(v.to_bits());
+        }
+    }
+
+    fn i64s(&mut self, values: &[i64]) {
+        self.word(values.len() as u64);
+        for &v in values {
+            self.word(v as u64);
+        }
+    }
+
+    fn text(&mut self, text: &str) {
+        let bytes = text.as_bytes();
+        self.word(bytes.len() as u64);
+        for chunk in bytes.chunks(8) {
+            let mut word = [0u8; 8];
+            word[..chunk.len()].copy_from_slice(chunk);
+            self.word(u64::from_le_bytes(word));
+        }
+    }
+
+    fn texts<S: AsRef<str>>(&mut self, texts: &[S]) {
+        self.word(texts.len() as u64);
+        for t in texts {
+            self.text(t.as_ref());
+        }
+    }
+}
+
+/// How a sweep's temporary file is created and treated on a signal.
+#[derive(Debug, Default)]
+pub(crate) struct TempOptions<'a> {
+    /// Unfinished files of the same output not to remove (they are being
+    /// taken up).
+    pub keep: &'a [PathBuf],
+    /// When set, once the first block is in the file a terminating signal
+    /// keeps the file and prints this note (see
+    /// [`TempFile::keep_on_signal`]).
+    pub note_on_signal: Option<&'a str>,
+}
+
 /// Streams cases into a new sweep file under a temporary name;
 /// [`SweepWriter::finish`] writes the last block and renames the file into
 /// place. Dropped unfinished, it removes the temporary file.
@@ -91,6 +168,13 @@ pub(crate) struct SweepWriter {
     rows_written: usize,
     samples_written: usize,
     block: Block,
+    /// Of everything written so far.
+    checksum: Checksum,
+    /// The root attribute `unfinished`, once the first block is written.
+    unfinished: Option<hdf5::Attribute>,
+    /// The note for [`TempFile::keep_on_signal`], given once the first
+    /// block is in the file.
+    note_on_signal: Option<String>,
 }
 
 impl SweepWriter {
@@ -100,9 +184,10 @@ impl SweepWriter {
         path: &Path,
         spec: &SweepSpec,
         stamp: &Stamp<'_>,
+        options: &TempOptions<'_>,
     ) -> Result<SweepWriter, SweepError> {
         let ctx = H5Context::writer(path, TrackTimes::Off);
-        let temp = TempFile::create(path)?;
+        let temp = TempFile::create_keeping(path, options.keep)?;
         let temp_path = temp.path().to_path_buf();
         let mut writer = SweepWriter {
             finished: false,
@@ -118,6 +203,9 @@ impl SweepWriter {
             rows_written: 0,
             samples_written: 0,
             block: Block::default(),
+            checksum: Checksum::new(),
+            unfinished: None,
+            note_on_signal: options.note_on_signal.map(str::to_string),
             temp: Some(temp),
             ctx,
         };
@@ -180,7 +268,26 @@ impl SweepWriter {
         Ok(())
     }
 
-    /// Writes the block: its samples, then its summary rows.
+    /// Writes the cases given since the last block as a block of their own
+    /// (as [`SweepWriter::finish`] does with the last one).
+    pub(crate) fn end_block(&mut self) -> Result<(), SweepError> {
+        self.flush()
+    }
+
+    /// How much of the file is written (the cases given so far up to the
+    /// last complete block) and its checksum.
+    pub(crate) fn resume_point(&self) -> ResumePoint {
+        ResumePoint {
+            rows: self.rows_written,
+            samples: self.samples_written,
+            metrics: self.columns.as_ref().map_or(0, |c| c.metrics.len()),
+            criteria: self.columns.as_ref().map_or(0, |c| c.criteria.len()),
+            checksum: self.checksum.0,
+        }
+    }
+
+    /// Writes the block: its samples, then its summary rows; then records
+    /// the [`ResumePoint`] in the file, flushed to disk before and after.
     fn flush(&mut self) -> Result<(), SweepError> {
         let block = std::mem::take(&mut self.block);
         if block.cases == 0 {
@@ -195,14 +302,41 @@ impl SweepWriter {
         if let Some(samples) = &self.samples {
             let ctx = &self.ctx;
             ctx.write_at(&samples.time, self.samples_written, &block.time)?;
+            self.checksum.f64s(&block.time);
             for (ds, data) in samples.channels.iter().zip(&block.channels) {
                 ctx.write_at(ds, self.samples_written, data)?;
+                self.checksum.f64s(data);
             }
             self.samples_written += block.time.len();
         }
         let rows = self.rows_written..self.summary.len();
         self.write_rows(rows.clone())?;
         self.rows_written = rows.end;
+        self.mark_complete()
+    }
+
+    /// Flushes the file to disk, records the [`ResumePoint`] in the root
+    /// attribute `unfinished` and flushes again, so the attribute never
+    /// counts data that is not in the file. After the first block, marks
+    /// the temporary file to be kept on a signal (when asked to).
+    fn mark_complete(&mut self) -> Result<(), SweepError> {
+        let values = self.resume_point().to_values();
+        let ctx = &self.ctx;
+        let file = self
+            .file
+            .as_ref()
+            .ok_or_else(|| ctx.invalid("writer already finished"))?;
+        file.flush().map_err(ctx.h5("flushing the file to disk"))?;
+        if self.unfinished.is_none() {
+            self.unfinished = Some(ctx.attr_i64s(file, UNFINISHED, values.len())?);
+        }
+        if let Some(attr) = &self.unfinished {
+            ctx.write_attr_i64s(attr, &values)?;
+        }
+        file.flush().map_err(ctx.h5("flushing the file to disk"))?;
+        if let (Some(note), Some(temp)) = (self.note_on_signal.take(), &self.temp) {
+            temp.keep_on_signal(&note);
+        }
         Ok(())
     }
 
@@ -238,14 +372,19 @@ impl SweepWriter {
             .columns
             .as_mut()
             .ok_or_else(|| ctx.invalid("writer already finished"))?;
+        let sum = &mut self.checksum;
         let r0 = rows.start;
         for (ds, (_, values)) in cols.parameters.iter().zip(&s.parameters) {
             ctx.write_at(ds, r0, &values[rows.clone()])?;
+            sum.f64s(&values[rows.clone()]);
         }
         let new_metrics = &s.metrics[cols.metrics.len()..];
         let names: Vec<&str> = new_metrics.iter().map(|m| m.name.as_str()).collect();
         ctx.write_text_at(&cols.metric_order, cols.metrics.len(), &names)?;
+        sum.texts(&names);
         for metric in new_metrics {
+            sum.text(&metric.unit);
+            sum.i64s(&[metric.first_case as i64]);
             let ds = ctx.growing(
                 &cols.metrics_group,
                 &metric.name,
@@ -258,10 +397,12 @@ impl SweepWriter {
         }
         for (ds, metric) in cols.metrics.iter().zip(&s.metrics) {
             ctx.write_at(ds, r0, &metric.values[rows.clone()])?;
+            sum.f64s(&metric.values[rows.clone()]);
         }
         let new_criteria = &s.criteria[cols.criteria.len()..];
         let names: Vec<&str> = new_criteria.iter().map(|c| c.name.as_str()).collect();
         ctx.write_text_at(&cols.criterion_order, cols.criteria.len(), &names)?;
+        sum.texts(&names);
         for criterion in new_criteria {
             let g = ctx.group(&cols.criteria_group, &criterion.name)?;
             let real = |name| ctx.growing(&g, name, SUMMARY_CHUNK, Some(f64::NAN));
@@ -281,15 +422,26 @@ impl SweepWriter {
             ctx.write_at(lower, r0, &c.lower[rows.clone()])?;
             ctx.write_at(upper, r0, &c.upper[rows.clone()])?;
             ctx.write_at(passed, r0, &c.passed[rows.clone()])?;
+            for column in [&c.value, &c.lower, &c.upper] {
+                sum.f64s(&column[rows.clone()]);
+            }
+            let passed: Vec<i64> = c.passed[rows.clone()].iter().map(|&p| p.into()).collect();
+            sum.i64s(&passed);
         }
         ctx.write_at(&cols.failure_time, r0, &s.failure_time_s[rows.clone()])?;
+        sum.f64s(&s.failure_time_s[rows.clone()]);
         let status: Vec<&str> = s.status[rows.clone()].iter().map(|x| x.name()).collect();
         ctx.write_text_at(&cols.status, r0, &status)?;
+        sum.texts(&status);
         ctx.write_text_at(&cols.message, r0, &str_refs(&s.message[rows.clone()]))?;
+        sum.texts(&s.message[rows.clone()]);
         ctx.write_at(&cols.sample_start, r0, &self.sample_start[rows.clone()])?;
         ctx.write_at(&cols.sample_count, r0, &self.sample_count[rows.clone()])?;
+        sum.i64s(&self.sample_start[rows.clone()]);
+        sum.i64s(&self.sample_count[rows.clone()]);
         let index: Vec<i64> = s.case_index[rows].iter().map(|&i| i as i64).collect();
         ctx.write_at(&cols.case_index, r0, &index)?;
+        sum.i64s(&index);
         Ok(())
     }
 
@@ -324,6 +476,10 @@ impl SweepWriter {
             .file
             .take()
             .ok_or_else(|| self.ctx.invalid("writer already finished"))?;
+        // The file is complete: no resume point.
+        if self.unfinished.take().is_some() {
+            self.ctx.delete_attr(&file, UNFINISHED)?;
+        }
         file.close().map_err(self.ctx.h5("closing the HDF5 file"))?;
         let temp = self
             .temp
@@ -341,6 +497,7 @@ impl Drop for SweepWriter {
         if !self.finished {
             self.samples = None;
             self.columns = None;
+            self.unfinished = None;
             drop(self.file.take());
             drop(self.temp.take());
         }

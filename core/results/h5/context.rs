@@ -331,6 +331,36 @@ impl H5Context {
         self.attr_scalar(loc, name, &value)
     }
 
+    /// Creates the i64 attribute `name` of `len` values on `loc`, to be
+    /// written (and written again) with [`H5Context::write_attr_i64s`].
+    pub(crate) fn attr_i64s(
+        &self,
+        loc: &Location,
+        name: &str,
+        len: usize,
+    ) -> Result<hdf5::Attribute, H5Error> {
+        loc.new_attr::<i64>()
+            .shape(len)
+            .create(name)
+            .map_err(self.h5(format!("creating attribute {name} of {}", loc.name())))
+    }
+
+    /// Writes `values` to the attribute `attr` made by [`H5Context::attr_i64s`].
+    pub(crate) fn write_attr_i64s(
+        &self,
+        attr: &hdf5::Attribute,
+        values: &[i64],
+    ) -> Result<(), H5Error> {
+        attr.write_raw(values)
+            .map_err(self.h5(format!("writing attribute {}", attr.name())))
+    }
+
+    /// Removes the attribute `name` of `loc`.
+    pub(crate) fn delete_attr(&self, loc: &Location, name: &str) -> Result<(), H5Error> {
+        loc.delete_attr(name)
+            .map_err(self.h5(format!("removing attribute {name} of {}", loc.name())))
+    }
+
     fn attr_scalar<T: H5Type>(&self, loc: &Location, name: &str, value: &T) -> Result<(), H5Error> {
         loc.new_attr::<T>()
             .shape(())
@@ -442,6 +472,30 @@ impl H5Context {
             .map_err(self.h5(format!("reading {what}")))
     }
 
+    /// Reads the one-dimensional i64 attribute `name` of `loc`; `None`
+    /// when `loc` has no such attribute.
+    pub(crate) fn read_attr_i64s(
+        &self,
+        loc: &Location,
+        name: &str,
+    ) -> Result<Option<Vec<i64>>, H5Error> {
+        let what = format!("integer list attribute {name} of {}", loc.name());
+        let names = loc
+            .attr_names()
+            .map_err(self.h5(format!("listing the attributes of {}", loc.name())))?;
+        if !names.iter().any(|n| n == name) {
+            return Ok(None);
+        }
+        let attr = loc.attr(name).map_err(self.h5(format!("opening {what}")))?;
+        self.check_object::<i64>(&attr, &what)?;
+        if attr.ndim() != 1 {
+            return Err(self.invalid(format!("{what} is not a list")));
+        }
+        attr.read_raw::<i64>()
+            .map(Some)
+            .map_err(self.h5(format!("reading {what}")))
+    }
+
     /// Reads the one-dimensional f64 dataset `name` in `group`.
     pub(crate) fn read_f64s(&self, group: &Group, name: &str) -> Result<Vec<f64>, H5Error> {
         self.read_1d(group, name)
@@ -508,6 +562,13 @@ impl H5Context {
         let items = ds
             .read_raw::<VarLenUnicode>()
             .map_err(self.h5(format!("reading text list from {}", ds.name())))?;
+        items.iter().map(|t| self.utf8(t, &ds.name())).collect()
+    }
+
+    /// Reads the first `len` texts of the one-dimensional text dataset `ds`,
+    /// after checking that it holds them.
+    pub(crate) fn read_strs_head(&self, ds: &Dataset, len: usize) -> Result<Vec<String>, H5Error> {
+        let items = self.read_range::<VarLenUnicode>(ds, 0..len)?;
         items.iter().map(|t| self.utf8(t, &ds.name())).collect()
     }
 
