@@ -260,12 +260,54 @@ pub fn unfinished_outputs(path: &Path) -> Result<Vec<PathBuf>, OutputError> {
     Ok(stale_files(parent_dir(&target), name))
 }
 
-/// Whether a process with this pid exists (a process of another user counts).
+/// Whether a process with this pid exists (a process of another user counts)
+/// and has not ended: a killed process whose parent has not yet collected its
+/// exit status (a zombie, state `Z` in `/proc/<pid>/stat`, see proc(5)) has
+/// ended.
 fn process_runs(pid: i32) -> bool {
     if pid == std::process::id() as i32 {
         return true;
     }
     // SAFETY: kill with signal 0 sends nothing; it only checks the pid.
     let result = unsafe { libc::kill(pid, 0) };
-    result == 0 || std::io::Error::last_os_error().raw_os_error() != Some(libc::ESRCH)
+    let exists = result == 0 || std::io::Error::last_os_error().raw_os_error() != Some(libc::ESRCH);
+    exists && !is_zombie(pid)
+}
+
+/// Whether `/proc` says the process has ended and waits to be collected.
+fn is_zombie(pid: i32) -> bool {
+    // The state follows the command name in parentheses, which may itself
+    // hold spaces and parentheses: read it after the last ')'.
+    fs::read_to_string(format!("/proc/{pid}/stat")).is_ok_and(|stat| {
+        stat.rsplit_once(')')
+            .and_then(|(_, rest)| rest.split_whitespace().next())
+            .is_some_and(|state| state == "Z")
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A child that has exited but is not yet collected is a zombie and no
+    /// longer counts as running; a running one does.
+    #[test]
+    fn ended_children_do_not_run() {
+        let mut sleeper = std::process::Command::new("sleep")
+            .arg("30")
+            .spawn()
+            .unwrap();
+        let pid = sleeper.id() as i32;
+        assert!(process_runs(pid));
+        sleeper.kill().unwrap();
+        // Not collected yet: wait for the kernel to mark it ended.
+        let start = std::time::Instant::now();
+        while !is_zombie(pid) && start.elapsed().as_secs() < 10 {
+            std::thread::sleep(std::time::Duration::from_millis(5));
+        }
+        assert!(is_zombie(pid));
+        assert!(!process_runs(pid));
+        sleeper.wait().unwrap();
+        assert!(!process_runs(pid), "collected");
+    }
 }
