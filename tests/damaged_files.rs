@@ -151,3 +151,34 @@ fn damaged_results_files_end_with_a_code_never_a_signal() {
         deaths.join("\n")
     );
 }
+
+/// Variant 0 of the default seed flips one bit of the object index in the
+/// stored reference of a text attribute (the description of channel
+/// `brake_request`), which HDF5 1.10 followed out of bounds. Each command
+/// now refuses it with exit 2, naming the file, the attribute and the
+/// reference.
+#[test]
+fn a_damaged_reference_to_a_text_names_the_file_and_the_object() {
+    let original = fs::read(repo_path("tests/fixtures/small_results.h5")).unwrap();
+    let dir = TempDir::new();
+    fs::write(dir.join("good.h5"), &original).unwrap();
+    let (what, bytes) = damage(&original, 0, &mut SplitMix64(SEED));
+    assert_eq!(what, "1 bits flipped");
+    fs::write(dir.join("bad.h5"), &bytes).unwrap();
+    for args in [
+        &["show", "bad.h5"][..],
+        &["check", "bad.h5", "--against", "good.h5"],
+        &["plot", "bad.h5", "--out", "bad.svg"],
+    ] {
+        let out = dir.yawdyn(args);
+        out.expect_code(2);
+        for words in [
+            "bad.h5",
+            "attribute description of /channels/brake_request",
+            "global heap collection",
+        ] {
+            assert!(out.stderr.contains(words), "{args:?}: {}", out.stderr);
+        }
+    }
+    assert!(!dir.join("bad.svg").exists());
+}
