@@ -59,21 +59,29 @@ impl StoredText for Attribute {
         let name = self.name();
         let address = header_address(self.id())
             .ok_or("the address of its object's header cannot be found")?;
+        // Every attribute message of that name (a damaged header might hold
+        // two; the library reads one of them).
+        let mut stored = Vec::new();
+        let mut found = false;
         for message in header_messages(path, index, address)? {
             if message.kind != ATTRIBUTE || message.flags & SHARED != 0 {
                 continue;
             }
-            let Some((found, data)) = attribute_parts(&message.data) else {
+            let Some((named, data)) = attribute_parts(&message.data) else {
                 continue;
             };
-            if found == name.as_bytes() {
-                return data.get(..wanted).map(<[u8]>::to_vec).ok_or_else(|| {
+            if named == name.as_bytes() {
+                found = true;
+                stored.extend(data.get(..wanted).ok_or_else(|| {
                     format!(
                         "its stored data ({} bytes) is shorter than its {elements} texts ({wanted} bytes)",
                         data.len()
                     )
-                });
+                })?);
             }
+        }
+        if found {
+            return Ok(stored);
         }
         Err(
             "it is not stored in its object's header (dense or shared attribute storage, which yawdyn never writes), so its texts cannot be checked"
