@@ -335,7 +335,9 @@ fn header_address(id: hdf5_sys::h5i::hid_t) -> Option<u64> {
     // SAFETY: `H5O_token_t` is `repr(C)` around its bytes only.
     let bytes: [u8; 16] = unsafe { std::mem::transmute::<H5O_token_t, [u8; 16]>(token) };
     // The native file format's token is the header address, little-endian
-    // (HDF5 1.12 reference manual, H5VL_native_addr_to_token).
+    // in its first bytes (from memory of HDF5 1.12's native connector,
+    // `H5VL_native_addr_to_token`; this branch is built only with HDF5 1.12
+    // or newer, the static build).
     Some(read_uint(&bytes[..8]))
 }
 

@@ -242,9 +242,11 @@ fn check_collection(collection: &[u8], length_size: usize) -> Result<HashMap<u16
 }
 
 impl HeapIndex {
-    /// Size of one stored variable-length element (a heap ID): its length
-    /// (4 bytes), the collection's address and the object's index (4
-    /// bytes) (format specification, section IV.A.2.d, "Variable-length").
+    /// Size of one stored variable-length element: its length (4 bytes),
+    /// then the global heap ID, the collection's address and the object's
+    /// index (4 bytes) (format specification, section III.E for the heap
+    /// ID; the element's layout from memory of the library's encoding, and
+    /// seen in every file the tests read).
     pub(crate) fn id_size(&self) -> usize {
         8 + self.offset_size
     }
