@@ -364,6 +364,76 @@ fn header_address(id: hdf5_sys::h5i::hid_t) -> Option<u64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::results::h5::heap::heap_index;
+    use crate::results::h5::{H5Context, TrackTimes};
+
+    /// A file with a text attribute, a contiguous text list and a chunked
+    /// text column: each reads back; a copy with the object index of one
+    /// stored reference changed is refused before the library reads it.
+    #[test]
+    fn damaged_references_in_attributes_and_datasets_are_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("sound.h5");
+        {
+            let ctx = H5Context::writer(&path, TrackTimes::Off);
+            let file = ctx.create_file(&path).unwrap();
+            ctx.attr_str(&file, "note", "hello").unwrap();
+            ctx.dataset_strs(&file, "list", &["a", "bb", "ccc"])
+                .unwrap();
+            let column = ctx
+                .growing::<hdf5::types::VarLenUnicode>(&file, "column", 2, None)
+                .unwrap();
+            ctx.write_text_at(&column, 0, &["x", "yy", "zzz"]).unwrap();
+            file.close().unwrap();
+        }
+        let ctx = H5Context::reader(&path);
+        let file = ctx.open_file().unwrap();
+        assert_eq!(ctx.read_attr_str(&file, "note").unwrap(), "hello");
+        assert_eq!(ctx.read_strs(&file, "list").unwrap(), ["a", "bb", "ccc"]);
+        let column = ctx.open_dataset(&file, "column").unwrap();
+        assert_eq!(ctx.read_strs_from(&column).unwrap(), ["x", "yy", "zzz"]);
+        // The stored references, as found in the file.
+        let index = heap_index(&path).unwrap().unwrap();
+        let note = file.attr("note").unwrap().stored_text(&path, &index, 1);
+        let list = ctx.open_dataset(&file, "list").unwrap();
+        let stored = [
+            ("note", note.unwrap()),
+            ("list", list.stored_text(&path, &index, 3).unwrap()),
+            ("column", column.stored_text(&path, &index, 3).unwrap()),
+        ];
+        drop((list, column, file));
+        let bytes = std::fs::read(&path).unwrap();
+        for (k, (name, refs)) in stored.iter().enumerate() {
+            // The last reference to a heap object (a chunk's unused
+            // elements refer to none): its object index (last 4 bytes)
+            // becomes 9999.
+            let id = refs
+                .chunks_exact(index.id_size())
+                .filter(|id| id[4..].iter().any(|&b| b != 0))
+                .next_back()
+                .unwrap();
+            let at = bytes
+                .windows(id.len())
+                .position(|w| w == id)
+                .expect("the reference is in the file");
+            let mut damaged = bytes.clone();
+            damaged[at + id.len() - 4..at + id.len()].copy_from_slice(&9999u32.to_le_bytes());
+            let bad = dir.path().join(format!("bad{k}.h5"));
+            std::fs::write(&bad, &damaged).unwrap();
+            let ctx = H5Context::reader(&bad);
+            let file = ctx.open_file().unwrap();
+            let why = match *name {
+                "note" => ctx.read_attr_str(&file, "note").unwrap_err(),
+                "list" => ctx.read_strs(&file, "list").unwrap_err(),
+                _ => ctx.read_strs(&file, "column").unwrap_err(),
+            };
+            let why = format!("{why:?}");
+            assert!(
+                why.contains("object 9999") && why.contains(name),
+                "{name}: {why}"
+            );
+        }
+    }
 
     #[test]
     fn attribute_messages_of_each_version_give_name_and_data() {
