@@ -31,6 +31,14 @@ use super::heap::{HeapIndex, read_uint};
 const LAYOUT: u16 = 0x08;
 const ATTRIBUTE: u16 = 0x0C;
 const CONTINUATION: u16 = 0x10;
+/// The attribute info message: the object keeps (some) attributes in dense
+/// storage, a fractal heap indexed by a version 2 B-tree (format
+/// specification, sections IV.A.2.v, III.G and III.A.2). HDF5 1.10 never
+/// writes it with yawdyn's settings; HDF5 1.12 and newer (the static build)
+/// do for an object with more than 8 attributes. Those attributes are read
+/// without checking their heap references (known limit: walking the
+/// fractal heap is not implemented).
+const ATTRIBUTE_INFO: u16 = 0x15;
 
 /// Header message flag: the message is shared (stored elsewhere).
 const SHARED: u8 = 0x02;
@@ -43,9 +51,15 @@ const MAX_BLOCKS: usize = 256;
 /// an attribute or a dataset.
 pub(crate) trait StoredText: std::ops::Deref<Target = hdf5::Container> {
     /// The stored bytes of its `elements` elements (heap IDs of
-    /// `index.id_size()` bytes each), read from the file `path`.
-    fn stored_text(&self, path: &Path, index: &HeapIndex, elements: u64)
-    -> Result<Vec<u8>, String>;
+    /// `index.id_size()` bytes each), read from the file `path`; `None`
+    /// for an attribute in dense storage, which is not checked (see
+    /// [`ATTRIBUTE_INFO`]).
+    fn stored_text(
+        &self,
+        path: &Path,
+        index: &HeapIndex,
+        elements: u64,
+    ) -> Result<Option<Vec<u8>>, String>;
 }
 
 impl StoredText for Attribute {
@@ -54,7 +68,7 @@ impl StoredText for Attribute {
         path: &Path,
         index: &HeapIndex,
         elements: u64,
-    ) -> Result<Vec<u8>, String> {
+    ) -> Result<Option<Vec<u8>>, String> {
         let wanted = stored_len(index, elements)?;
         let name = self.name();
         let address = header_address(self.id())
@@ -63,7 +77,9 @@ impl StoredText for Attribute {
         // two; the library reads one of them).
         let mut stored = Vec::new();
         let mut found = false;
+        let mut dense = false;
         for message in header_messages(path, index, address)? {
+            dense |= message.kind == ATTRIBUTE_INFO;
             if message.kind != ATTRIBUTE || message.flags & SHARED != 0 {
                 continue;
             }
@@ -81,12 +97,15 @@ impl StoredText for Attribute {
             }
         }
         if found {
-            return Ok(stored);
+            Ok(Some(stored))
+        } else if dense {
+            Ok(None)
+        } else {
+            Err(
+                "it is not stored in its object's header (shared attribute storage, which yawdyn never writes), so its texts cannot be checked"
+                    .to_string(),
+            )
         }
-        Err(
-            "it is not stored in its object's header (dense or shared attribute storage, which yawdyn never writes), so its texts cannot be checked"
-                .to_string(),
-        )
     }
 }
 
@@ -96,50 +115,58 @@ impl StoredText for Dataset {
         path: &Path,
         index: &HeapIndex,
         elements: u64,
-    ) -> Result<Vec<u8>, String> {
-        let wanted = stored_len(index, elements)?;
-        let dcpl = self
-            .dcpl()
-            .map_err(|e| format!("its creation properties cannot be read ({e})"))?;
-        if dcpl.fill_value_defined() == FillValue::UserDefined {
-            return Err("its texts have a fill value, which yawdyn never writes".to_string());
-        }
-        if dcpl.has_filters() {
-            return Err(
-                "its texts are filtered (compressed), which yawdyn never writes".to_string(),
-            );
-        }
-        match dcpl.layout() {
-            Layout::Contiguous => match self.offset() {
-                Some(start) => read_at(path, index, start, wanted as u64),
-                // Never written: the library reads empty texts.
-                None if self.storage_size() == 0 => Ok(Vec::new()),
-                None => Err("its storage is outside the file".to_string()),
-            },
-            Layout::Chunked => chunks(self, path, index),
-            Layout::Compact => {
-                let address = header_address(self.id())
-                    .ok_or("the address of its object header cannot be found")?;
-                for message in header_messages(path, index, address)? {
-                    let d = &message.data;
-                    if message.kind == LAYOUT
-                        && matches!(d.first(), Some(3 | 4))
-                        && d.get(1) == Some(&0)
-                    {
-                        let size = read_uint(d.get(2..4).unwrap_or_default()) as usize;
-                        return d
-                            .get(4..4 + size)
-                            .filter(|data| data.len() == wanted)
-                            .map(<[u8]>::to_vec)
-                            .ok_or_else(|| {
-                                format!("its compact data does not hold its {elements} texts")
-                            });
-                    }
+    ) -> Result<Option<Vec<u8>>, String> {
+        dataset_text(self, path, index, elements).map(Some)
+    }
+}
+
+/// The stored text of the dataset `ds` (see [`StoredText`]).
+fn dataset_text(
+    ds: &Dataset,
+    path: &Path,
+    index: &HeapIndex,
+    elements: u64,
+) -> Result<Vec<u8>, String> {
+    let wanted = stored_len(index, elements)?;
+    let dcpl = ds
+        .dcpl()
+        .map_err(|e| format!("its creation properties cannot be read ({e})"))?;
+    if dcpl.fill_value_defined() == FillValue::UserDefined {
+        return Err("its texts have a fill value, which yawdyn never writes".to_string());
+    }
+    if dcpl.has_filters() {
+        return Err("its texts are filtered (compressed), which yawdyn never writes".to_string());
+    }
+    match dcpl.layout() {
+        Layout::Contiguous => match ds.offset() {
+            Some(start) => read_at(path, index, start, wanted as u64),
+            // Never written: the library reads empty texts.
+            None if ds.storage_size() == 0 => Ok(Vec::new()),
+            None => Err("its storage is outside the file".to_string()),
+        },
+        Layout::Chunked => chunks(ds, path, index),
+        Layout::Compact => {
+            let address = header_address(ds.id())
+                .ok_or("the address of its object header cannot be found")?;
+            for message in header_messages(path, index, address)? {
+                let d = &message.data;
+                if message.kind == LAYOUT
+                    && matches!(d.first(), Some(3 | 4))
+                    && d.get(1) == Some(&0)
+                {
+                    let size = read_uint(d.get(2..4).unwrap_or_default()) as usize;
+                    return d
+                        .get(4..4 + size)
+                        .filter(|data| data.len() == wanted)
+                        .map(<[u8]>::to_vec)
+                        .ok_or_else(|| {
+                            format!("its compact data does not hold its {elements} texts")
+                        });
                 }
-                Err("its layout message cannot be found".to_string())
             }
-            other => Err(format!("its layout ({other:?}) is not one yawdyn writes")),
+            Err("its layout message cannot be found".to_string())
         }
+        other => Err(format!("its layout ({other:?}) is not one yawdyn writes")),
     }
 }
 
@@ -397,9 +424,12 @@ mod tests {
         let note = file.attr("note").unwrap().stored_text(&path, &index, 1);
         let list = ctx.open_dataset(&file, "list").unwrap();
         let stored = [
-            ("note", note.unwrap()),
-            ("list", list.stored_text(&path, &index, 3).unwrap()),
-            ("column", column.stored_text(&path, &index, 3).unwrap()),
+            ("note", note.unwrap().unwrap()),
+            ("list", list.stored_text(&path, &index, 3).unwrap().unwrap()),
+            (
+                "column",
+                column.stored_text(&path, &index, 3).unwrap().unwrap(),
+            ),
         ];
         drop((list, column, file));
         let bytes = std::fs::read(&path).unwrap();
@@ -409,8 +439,7 @@ mod tests {
             // becomes 9999.
             let id = refs
                 .chunks_exact(index.id_size())
-                .filter(|id| id[4..].iter().any(|&b| b != 0))
-                .next_back()
+                .rfind(|id| id[4..].iter().any(|&b| b != 0))
                 .unwrap();
             let at = bytes
                 .windows(id.len())
