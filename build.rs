@@ -9,6 +9,9 @@
 //!
 //! File `$OUT_DIR/shipped.rs`: one `(relative path, include_str!(...))` entry
 //! per `scripts/*.rhai` and `scripts/vehicles/*.toml`, and a digest of them all.
+//!
+//! `cfg(hdf5_info2)`, `cfg(hdf5_chunk_info)`, `cfg(hdf5_tokens)`: what the linked
+//! HDF5 offers (`core/results/h5/header.rs` asks it where objects are stored).
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -23,6 +26,26 @@ fn main() {
     let target = std::env::var("TARGET").unwrap_or_else(|_| "unknown target".into());
     println!("cargo:rustc-env=YAWDYN_TARGET={target}");
     write_shipped(&manifest);
+    hdf5_version_cfg();
+}
+
+/// Configuration flags for the version of the linked HDF5, which the HDF5
+/// binding reports as `DEP_HDF5_VERSION_<major>_<minor>_<micro>` for every
+/// release up to it: `hdf5_info2` from 1.10.3 (`H5Oget_info2`),
+/// `hdf5_chunk_info` from 1.10.5 (`H5Dget_chunk_info`), `hdf5_tokens` from
+/// 1.12 (object information gives a token instead of a header address).
+fn hdf5_version_cfg() {
+    for (flag, version) in [
+        ("hdf5_info2", "1_10_3"),
+        ("hdf5_chunk_info", "1_10_5"),
+        ("hdf5_tokens", "1_12_0"),
+    ] {
+        println!("cargo::rustc-check-cfg=cfg({flag})");
+        println!("cargo:rerun-if-env-changed=DEP_HDF5_VERSION_{version}");
+        if std::env::var_os(format!("DEP_HDF5_VERSION_{version}")).is_some() {
+            println!("cargo:rustc-cfg={flag}");
+        }
+    }
 }
 
 /// `git describe --always --dirty --exclude '*'`: the short commit hash, with

@@ -320,3 +320,97 @@ fn merge_and_quasi_static_commands_refuse_their_inputs_and_special_files() {
     dir.yawdyn(["merge", "all.h5", "s1.h5", "s2.h5"])
         .expect_code(0);
 }
+
+/// `tyre` writes a folder of CSV files (and one of SVG plots) through the
+/// same rules: a FIFO, a link to a device or to the vehicle file among its
+/// files, or a device, FIFO or file named as the folder, is refused (exit
+/// 2) before anything is written; a link to a regular file replaces the
+/// target and stays a link; an existing file of one of its names is
+/// replaced and keeps its mode, other files are left alone; no temporary
+/// file remains.
+#[test]
+fn tyre_writes_its_folder_through_the_output_rules() {
+    let dir = TempDir::new();
+    short_script(&dir);
+    let vehicle = fs::read(dir.join("car.toml")).unwrap();
+    let tyre = |out: &str| dir.yawdyn(["tyre", "car.toml", "--axle", "front", "--out", out]);
+    fs::create_dir(dir.join("out")).unwrap();
+    let curves = dir.join("out/tyre_front_curves.csv");
+    let load = dir.join("out/tyre_front_load.csv");
+    let refused = |out: &str, case: &str| {
+        let o = tyre(out);
+        o.expect_code(2);
+        assert!(
+            o.stderr.contains("refused as an output"),
+            "{case}: {}",
+            o.stderr
+        );
+        // Nothing written: the other file of the folder does not exist.
+        assert!(!load.exists(), "{case}");
+        assert!(temp_files(&dir.join("out")).is_empty(), "{case}");
+    };
+    make_fifo(&curves);
+    refused("out", "a FIFO in the folder");
+    assert!(fs::metadata(&curves).unwrap().file_type().is_fifo());
+    fs::remove_file(&curves).unwrap();
+    std::os::unix::fs::symlink("/dev/null", &curves).unwrap();
+    refused("out", "a link to a device");
+    fs::remove_file(&curves).unwrap();
+    std::os::unix::fs::symlink("../car.toml", &curves).unwrap();
+    refused("out", "a link to the vehicle file");
+    fs::remove_file(&curves).unwrap();
+    fs::hard_link(dir.join("car.toml"), &curves).unwrap();
+    refused("out", "a hard link to the vehicle file");
+    fs::remove_file(&curves).unwrap();
+    assert_eq!(fs::read(dir.join("car.toml")).unwrap(), vehicle);
+    // The folder itself: a device, a FIFO, a regular file.
+    make_fifo(&dir.join("fifo"));
+    fs::write(dir.join("plain"), "keep").unwrap();
+    for out in ["/dev/null", "fifo", "plain", "car.toml"] {
+        let o = tyre(out);
+        o.expect_code(2);
+        assert!(o.stderr.contains("give a directory"), "{out}: {}", o.stderr);
+    }
+    assert!(
+        fs::metadata(dir.join("fifo"))
+            .unwrap()
+            .file_type()
+            .is_fifo()
+    );
+    assert_eq!(fs::read_to_string(dir.join("plain")).unwrap(), "keep");
+    assert_eq!(fs::read(dir.join("car.toml")).unwrap(), vehicle);
+    // A link to a regular file is followed; an existing file is replaced
+    // and keeps its mode; another file in the folder is left alone.
+    fs::write(dir.join("keep.csv"), "old").unwrap();
+    std::os::unix::fs::symlink("../keep.csv", &load).unwrap();
+    fs::write(&curves, "old").unwrap();
+    fs::set_permissions(&curves, fs::Permissions::from_mode(0o600)).unwrap();
+    fs::write(dir.join("out/notes.txt"), "mine").unwrap();
+    tyre("out").expect_code(0);
+    assert!(
+        fs::symlink_metadata(&load)
+            .unwrap()
+            .file_type()
+            .is_symlink()
+    );
+    let kept = fs::read_to_string(dir.join("keep.csv")).unwrap();
+    assert!(kept.lines().count() > 2 && kept.contains(','), "{kept}");
+    let replaced = fs::read_to_string(&curves).unwrap();
+    assert!(replaced.lines().count() > 2 && replaced.contains(','));
+    let mode = fs::metadata(&curves).unwrap().permissions().mode() & 0o777;
+    assert_eq!(mode, 0o600);
+    assert_eq!(
+        fs::read_to_string(dir.join("out/notes.txt")).unwrap(),
+        "mine"
+    );
+    assert!(temp_files(&dir.join("out")).is_empty());
+    assert!(temp_files(dir.path()).is_empty());
+    // A new folder is created; `--plot` follows the same rules.
+    tyre("new/deeper").expect_code(0);
+    assert!(dir.join("new/deeper/tyre_front_load.csv").is_file());
+    make_fifo(&dir.join("out/tyre_front_lateral.svg"));
+    let o = dir.yawdyn(["tyre", "car.toml", "--axle", "front", "--plot", "out"]);
+    o.expect_code(2);
+    assert!(!dir.join("out/tyre_front_longitudinal.svg").exists());
+    assert!(temp_files(&dir.join("out")).is_empty());
+}

@@ -110,6 +110,7 @@ pub fn run(args: Args) -> anyhow::Result<Outcome> {
         AxleChoice::Rear => vec![REAR],
         AxleChoice::Both => vec![FRONT, REAR],
     };
+    check_tyre_outputs(&args, &axles)?;
     let started = Instant::now();
     let mut inspected = Vec::new();
     for &axle in &axles {
@@ -245,6 +246,43 @@ fn axle_json(i: &Inspected) -> Value {
             "load_n": c.load, "slip_ratio": c.slip_ratio, "fx_n": c.fx, "fy_n": c.fy})).collect::<Vec<_>>(),
         "load_dependence": r.load_dependence.iter().map(figures_json).collect::<Vec<_>>(),
     })
+}
+
+/// Names of the SVG plots of one axle (`tyre_<axle>_<name>.svg`).
+const PLOTS: [&str; 5] = [
+    "longitudinal",
+    "lateral",
+    "combined_friction_ellipse",
+    "combined_magic_formula",
+    "load",
+];
+
+/// Checks every file `yawdyn tyre` will write before any work, so that a
+/// refused one (a FIFO, a device, the vehicle file, a link to one of them)
+/// leaves the folders as they were: `--out` and `--plot` are directories
+/// or new paths, and each file in them follows the output rules
+/// ([`super::check_outputs`]).
+fn check_tyre_outputs(args: &Args, axles: &[usize]) -> anyhow::Result<()> {
+    yawdyn::output::note_input(&args.vehicle);
+    let mut files = Vec::new();
+    if let Some(dir) = &args.out {
+        yawdyn::output::check_output_dir(dir)?;
+        for &axle in axles {
+            for stem in ["curves", "load"] {
+                files.push(dir.join(format!("tyre_{}_{stem}.csv", axle_name(axle))));
+            }
+        }
+    }
+    if let Some(dir) = &args.plot {
+        yawdyn::output::check_output_dir(dir)?;
+        for &axle in axles {
+            for stem in PLOTS {
+                files.push(dir.join(format!("tyre_{}_{stem}.svg", axle_name(axle))));
+            }
+        }
+    }
+    let files: Vec<&Path> = files.iter().map(PathBuf::as_path).collect();
+    super::check_outputs(&files)
 }
 
 /// `dir/tyre_<axle>_<stem>.<ext>`, creating `dir`.

@@ -281,6 +281,50 @@ pub fn check_output_path(path: &Path) -> Result<(), OutputError> {
     temp::probe(existing)
 }
 
+/// Checks, before a command writes files into the directory `dir` (`tyre
+/// --out DIR`), that it is a directory (symbolic links followed) or a new
+/// path that can be created as one. A regular file, a device, a FIFO, a
+/// socket or a link to a missing target is refused; the files written
+/// inside follow the rules of this module ([`check_output_path`]).
+///
+/// ```no_run
+/// yawdyn::output::check_output_dir(std::path::Path::new("results/tyres"))?;
+/// # Ok::<(), yawdyn::output::OutputError>(())
+/// ```
+pub fn check_output_dir(dir: &Path) -> Result<(), OutputError> {
+    match std::fs::metadata(dir) {
+        Ok(meta) if meta.is_dir() => Ok(()),
+        Ok(meta) => {
+            let what = if meta.is_file() {
+                "it is a file"
+            } else {
+                what_it_is(&meta).split(';').next().unwrap_or_default()
+            };
+            Err(OutputError::refused(
+                dir,
+                format!("{what}; give a directory (new or existing)"),
+            ))
+        }
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            if std::fs::symlink_metadata(dir).is_ok() {
+                return Err(OutputError::refused(
+                    dir,
+                    "a symbolic link whose target does not exist; give the target's path",
+                ));
+            }
+            match dir.ancestors().skip(1).find(|d| d.is_file()) {
+                Some(file) => Err(OutputError::Io {
+                    path: file.to_path_buf(),
+                    action: format!("is a file, so {} cannot be created", dir.display()),
+                    source: std::io::Error::from(std::io::ErrorKind::NotADirectory),
+                }),
+                None => Ok(()),
+            }
+        }
+        Err(e) => Err(OutputError::io(dir, "looking at the output directory")(e)),
+    }
+}
+
 /// Refuses two outputs of one command that are the same file (`--csv X
 /// --out X`): both are resolved by the rules of this module and compared as
 /// paths of their canonical directories and, when the file exists, by

@@ -127,7 +127,7 @@ pub fn file_format(path: &Path) -> Result<String, FigureError> {
     let attr = file
         .attr("format")
         .map_err(|_| unknown("no `format` attribute on the root group".into()))?;
-    crate::results::h5::check_before_read::<hdf5::types::VarLenUnicode>(&attr, meta.len())
+    crate::results::h5::check_before_read::<hdf5::types::VarLenUnicode, _>(&attr, path)
         .map_err(|why| unknown(format!("the `format` attribute {why}")))?;
     if attr.ndim() != 0 {
         return Err(unknown(

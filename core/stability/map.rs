@@ -233,7 +233,7 @@ impl Ctx<'_> {
         let attr = loc
             .attr(name)
             .map_err(self.h5(format!("opening attribute {name}")))?;
-        self.check::<VarLenUnicode>(&attr, &format!("attribute {name}"))?;
+        self.check::<VarLenUnicode, _>(&attr, &format!("attribute {name}"))?;
         let text = attr
             .read_scalar::<VarLenUnicode>()
             .map_err(self.h5(format!("reading attribute {name}")))?;
@@ -252,7 +252,7 @@ impl Ctx<'_> {
         let ds = g
             .dataset(name)
             .map_err(self.h5(format!("opening dataset {name}")))?;
-        self.check::<VarLenUnicode>(&ds, name)?;
+        self.check::<VarLenUnicode, _>(&ds, name)?;
         let items = ds
             .read_raw::<VarLenUnicode>()
             .map_err(self.h5(format!("reading dataset {name}")))?;
@@ -265,9 +265,12 @@ impl Ctx<'_> {
             .collect()
     }
     /// Checks an object before reading it ([`crate::results::h5::check_before_read`]).
-    fn check<T: hdf5::H5Type>(&self, object: &hdf5::Container, name: &str) -> Result<(), MapError> {
-        let len = std::fs::metadata(self.path).map_or(0, |m| m.len());
-        crate::results::h5::check_before_read::<T>(object, len)
+    fn check<T: hdf5::H5Type, O: crate::results::h5::StoredText>(
+        &self,
+        object: &O,
+        name: &str,
+    ) -> Result<(), MapError> {
+        crate::results::h5::check_before_read::<T, O>(object, self.path)
             .map_err(|why| self.invalid(format!("{name} is damaged or not of this layout: {why}")))
     }
     fn grid<T: hdf5::H5Type>(
@@ -315,7 +318,7 @@ impl Ctx<'_> {
         let ds = g
             .dataset(name)
             .map_err(self.h5(format!("opening dataset {name}")))?;
-        self.check::<T>(&ds, name)?;
+        self.check::<T, _>(&ds, name)?;
         if ds.shape() != shape.to_vec() {
             return Err(self.invalid(format!(
                 "dataset {name} has shape {:?}, expected {:?}",
@@ -476,7 +479,7 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
     let version_attr = root
         .attr("format_version")
         .map_err(ctx.h5("opening attribute format_version"))?;
-    ctx.check::<i64>(&version_attr, "attribute format_version")?;
+    ctx.check::<i64, _>(&version_attr, "attribute format_version")?;
     let version: i64 = version_attr
         .read_scalar()
         .map_err(ctx.h5("reading attribute format_version"))?;
@@ -496,7 +499,7 @@ pub fn read_map(path: &Path) -> Result<StabilityMap, MapError> {
         let ds = root
             .dataset(&name)
             .map_err(ctx.h5(format!("opening dataset {name}")))?;
-        ctx.check::<f64>(&ds, &name)?;
+        ctx.check::<f64, _>(&ds, &name)?;
         let values = ds
             .read_raw::<f64>()
             .map_err(ctx.h5(format!("reading dataset {name}")))?;
@@ -538,11 +541,20 @@ fn read_provenance(ctx: &Ctx<'_>, root: &Group) -> Result<MapProvenance, MapErro
     let pg = root
         .group("provenance")
         .map_err(ctx.h5("opening group provenance"))?;
-    let vehicle_toml = pg
+    let toml_ds = pg
         .dataset("vehicle_toml")
-        .and_then(|d| d.read_scalar::<VarLenUnicode>())
-        .map(|v| v.as_str().to_string())
-        .map_err(ctx.h5("reading dataset vehicle_toml"))?;
+        .map_err(ctx.h5("opening dataset vehicle_toml"))?;
+    ctx.check::<VarLenUnicode, _>(&toml_ds, "vehicle_toml")?;
+    if toml_ds.ndim() != 0 {
+        return Err(ctx.invalid("dataset vehicle_toml is not a single text"));
+    }
+    let vehicle_toml = toml_ds
+        .read_scalar::<VarLenUnicode>()
+        .map_err(ctx.h5("reading dataset vehicle_toml"))
+        .and_then(|v| {
+            crate::results::h5::utf8_text(&v)
+                .map_err(|why| ctx.invalid(format!("dataset vehicle_toml: {why}")))
+        })?;
     let fg = root
         .group("fixed_conditions")
         .map_err(ctx.h5("opening group fixed_conditions"))?;
@@ -554,6 +566,10 @@ fn read_provenance(ctx: &Ctx<'_>, root: &Group) -> Result<MapProvenance, MapErro
         let ds = fg
             .dataset(&name)
             .map_err(ctx.h5(format!("opening fixed condition {name}")))?;
+        ctx.check::<f64, _>(&ds, &name)?;
+        if ds.ndim() != 0 {
+            return Err(ctx.invalid(format!("fixed condition {name} is not a single number")));
+        }
         fixed.push(FixedCondition {
             value: ds
                 .read_scalar::<f64>()

@@ -12,6 +12,7 @@ use std::str::FromStr;
 use hdf5::types::VarLenUnicode;
 use hdf5::{Dataset, File, Group, H5Type, Location};
 
+use super::header::StoredText;
 use crate::results::{Access, ResultsError};
 
 /// The text of a variable-length string read from a file, checked to be
@@ -22,19 +23,23 @@ pub(crate) fn utf8_text(text: &VarLenUnicode) -> Result<String, String> {
         .map_err(|e| format!("its text is not UTF-8 ({e})"))
 }
 
-/// Checks an object (dataset or attribute) before its data is read, so that
-/// a damaged or foreign file gives an error instead of a crash inside the
-/// HDF5 library or an allocation of the size a damaged header claims: its
-/// element type is of the class the layout has there (a number where
-/// numbers are read, a variable-length string where text is read) and it
-/// holds no more bytes than the file (`file_len`; yawdyn stores no
-/// compressed data, so every element is stored in full). Returns the reason
-/// when the object does not fit.
-pub(crate) fn check_before_read<T: H5Type>(
-    object: &hdf5::Container,
-    file_len: u64,
+/// Checks an object (dataset or attribute) of the file `path` before its
+/// data is read, so that a damaged or foreign file gives an error instead
+/// of a crash inside the HDF5 library or an allocation of the size a
+/// damaged header claims: its element type is of the class the layout has
+/// there (a number where numbers are read, a variable-length string where
+/// text is read), it holds no more bytes than the file (yawdyn stores no
+/// compressed data, so every element is stored in full), and, for text,
+/// every stored reference into the global heap names an object of a
+/// collection that `heap.rs` walked, of the text's length (the library
+/// follows them unchecked). Returns the reason when the object does not
+/// fit.
+pub(crate) fn check_before_read<T: H5Type, O: StoredText>(
+    object: &O,
+    path: &Path,
 ) -> Result<(), String> {
     use hdf5::types::TypeDescriptor as D;
+    let file_len = std::fs::metadata(path).map_or(0, |m| m.len());
     let dtype = object
         .dtype()
         .map_err(|e| format!("its element type cannot be read ({e})"))?;
@@ -55,6 +60,18 @@ pub(crate) fn check_before_read<T: H5Type>(
         return Err(format!(
             "claims {elements} elements ({bytes} bytes), more than the whole file ({file_len} bytes)"
         ));
+    }
+    if text(&expected) {
+        let index = super::heap::heap_index(path)
+            .map_err(|why| format!("lies in a damaged file: {why}"))?
+            .ok_or(
+                "lies in a file whose superblock cannot be read, so its texts cannot be checked",
+            )?;
+        // `None`: an attribute in dense storage (see `header.rs`), read
+        // unchecked.
+        if let Some(stored) = object.stored_text(path, &index, elements as u64)? {
+            index.check_ids(&stored)?;
+        }
     }
     Ok(())
 }
@@ -188,19 +205,14 @@ impl H5Context {
             .map_err(self.h5("opening the file as HDF5"))
     }
 
-    /// The length of the file read, bytes (0 when it cannot be looked at).
-    fn file_len(&self) -> u64 {
-        std::fs::metadata(&self.path).map_or(0, |m| m.len())
-    }
-
     /// [`check_before_read`] for an object of this file, as an [`H5Error`]
     /// naming the object.
-    pub(crate) fn check_object<T: H5Type>(
+    pub(crate) fn check_object<T: H5Type, O: StoredText>(
         &self,
-        object: &hdf5::Container,
+        object: &O,
         name: &str,
     ) -> Result<(), H5Error> {
-        check_before_read::<T>(object, self.file_len())
+        check_before_read::<T, O>(object, &self.path)
             .map_err(|why| self.invalid(format!("{name} is damaged or not of this layout: {why}")))
     }
 
@@ -464,7 +476,7 @@ impl H5Context {
     ) -> Result<T, H5Error> {
         let what = format!("{kind} attribute {name} of {}", loc.name());
         let attr = loc.attr(name).map_err(self.h5(format!("opening {what}")))?;
-        self.check_object::<T>(&attr, &what)?;
+        self.check_object::<T, _>(&attr, &what)?;
         if attr.ndim() != 0 {
             return Err(self.invalid(format!("{what} is not a single value")));
         }
@@ -510,7 +522,7 @@ impl H5Context {
     /// Reads the numbers of the one-dimensional dataset `ds`.
     pub(crate) fn read_1d_from<T: H5Type>(&self, ds: &Dataset) -> Result<Vec<T>, H5Error> {
         self.check_1d(ds)?;
-        self.check_object::<T>(ds, &ds.name())?;
+        self.check_object::<T, _>(ds, &ds.name())?;
         ds.read_raw()
             .map_err(self.h5(format!("reading numbers from {}", ds.name())))
     }
@@ -531,7 +543,7 @@ impl H5Context {
         range: Range<usize>,
     ) -> Result<Vec<T>, H5Error> {
         self.check_1d(ds)?;
-        self.check_object::<T>(ds, &ds.name())?;
+        self.check_object::<T, _>(ds, &ds.name())?;
         if range.end > ds.size() || range.start > range.end {
             return Err(self.invalid(format!(
                 "{} has {} elements; elements {}..{} were asked for",
@@ -558,7 +570,7 @@ impl H5Context {
     /// Reads the texts of the one-dimensional text dataset `ds`.
     pub(crate) fn read_strs_from(&self, ds: &Dataset) -> Result<Vec<String>, H5Error> {
         self.check_1d(ds)?;
-        self.check_object::<VarLenUnicode>(ds, &ds.name())?;
+        self.check_object::<VarLenUnicode, _>(ds, &ds.name())?;
         let items = ds
             .read_raw::<VarLenUnicode>()
             .map_err(self.h5(format!("reading text list from {}", ds.name())))?;
@@ -575,7 +587,7 @@ impl H5Context {
     /// Reads the text scalar dataset `name` in `group`.
     pub(crate) fn read_str(&self, group: &Group, name: &str) -> Result<String, H5Error> {
         let ds = self.open_dataset(group, name)?;
-        self.check_object::<VarLenUnicode>(&ds, &ds.name())?;
+        self.check_object::<VarLenUnicode, _>(&ds, &ds.name())?;
         if ds.ndim() != 0 {
             return Err(self.invalid(format!("{} is not a single text", ds.name())));
         }

@@ -3,6 +3,7 @@
 //! the crate ([`H5Context`]), which sweep files use too.
 
 mod context;
+mod header;
 pub(crate) mod heap;
 
 use std::path::Path;
@@ -11,6 +12,7 @@ use hdf5::types::VarLenUnicode;
 use hdf5::{File, Group};
 
 pub(crate) use context::{H5Context, H5Error, TrackTimes, check_before_read, utf8_text};
+pub(crate) use header::StoredText;
 
 use super::{
     Channel, Criterion, FORMAT_NAME, FORMAT_VERSION, Metric, Provenance, ResultsError, RunRecord,
@@ -120,11 +122,8 @@ fn check_format(ctx: &H5Context, file: &File) -> Result<(), ResultsError> {
     let attr = file
         .attr("format")
         .map_err(|_| not_ours("no `format` attribute on the root group".to_string()))?;
-    context::check_before_read::<VarLenUnicode>(
-        &attr,
-        std::fs::metadata(&ctx.path).map_or(0, |m| m.len()),
-    )
-    .map_err(|why| not_ours(format!("the `format` attribute {why}")))?;
+    context::check_before_read::<VarLenUnicode, _>(&attr, &ctx.path)
+        .map_err(|why| not_ours(format!("the `format` attribute {why}")))?;
     if attr.ndim() != 0 {
         return Err(not_ours(
             "the `format` attribute is not a single text".to_string(),
@@ -316,7 +315,7 @@ impl H5Context {
         let mut metrics = Vec::new();
         for name in self.read_strs(group, "metric_order")? {
             let ds = self.open_dataset(&metrics_group, &name)?;
-            self.check_object::<f64>(&ds, &ds.name())?;
+            self.check_object::<f64, _>(&ds, &ds.name())?;
             if ds.ndim() != 0 {
                 return Err(self.invalid(format!("{} is not a single number", ds.name())));
             }
