@@ -499,7 +499,7 @@ impl H5Context {
             return Ok(None);
         }
         let attr = loc.attr(name).map_err(self.h5(format!("opening {what}")))?;
-        self.check_object::<i64>(&attr, &what)?;
+        self.check_object::<i64, _>(&attr, &what)?;
         if attr.ndim() != 1 {
             return Err(self.invalid(format!("{what} is not a list")));
         }
