@@ -117,12 +117,14 @@
 //! waiting for their turn) run again.
 
 mod case;
+mod checksum;
 mod engine;
 mod grid;
 mod layout;
 mod merge;
 mod reader;
 mod resume;
+mod sections;
 mod stamp;
 mod writer;
 

@@ -5,6 +5,7 @@
 mod context;
 mod header;
 pub(crate) mod heap;
+mod read;
 
 use std::path::Path;
 
