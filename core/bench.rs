@@ -223,6 +223,9 @@ impl Bench<'_> {
             }
             Scenario::Ticked => {
                 let mut sim = self.new_sim(1000.0, settings)?;
+                // The sample memory of the whole run at once, as the script
+                // runner reserves it when a phase begins.
+                sim.reserve_samples_until(end);
                 for k in 1..=ticks {
                     sim.advance(k as f64 * TICK, &self.commands)?;
                 }
@@ -230,6 +233,8 @@ impl Bench<'_> {
             }
             Scenario::ClosedLoop => {
                 let mut sim = self.new_sim(1000.0, settings)?;
+                // As in the ticked run (the script runner's reservation).
+                sim.reserve_samples_until(end);
                 let mut hold = SpeedController::default();
                 let target = sim.state()[VX];
                 for k in 1..=ticks {

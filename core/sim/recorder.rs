@@ -151,7 +151,8 @@ impl Recorder {
         (last as u64 + 1).saturating_sub(self.next)
     }
 
-    /// Makes room for every sample up to `t`.
+    /// Makes room for every sample up to `t` (growing by doubling, as
+    /// `Vec::reserve` does, when an `advance` call needs more).
     pub fn reserve_until(&mut self, t: f64) {
         let more = self.count_due(t) as usize;
         if self.times.capacity() - self.times.len() >= more {
@@ -160,6 +161,19 @@ impl Recorder {
         self.times.reserve(more);
         for d in &mut self.data {
             d.reserve(more);
+        }
+    }
+
+    /// Makes room for exactly every sample up to `t` at once (no doubling:
+    /// the caller knows how far the run goes).
+    pub fn reserve_exact_until(&mut self, t: f64) {
+        let more = self.count_due(t) as usize;
+        if self.times.capacity() - self.times.len() >= more {
+            return;
+        }
+        self.times.reserve_exact(more);
+        for d in &mut self.data {
+            d.reserve_exact(more);
         }
     }
 
@@ -341,6 +355,28 @@ mod tests {
         assert_eq!(r.time_of(35), 0.175);
         assert!(r.due(0.005));
         assert!(!r.due(0.0049));
+    }
+
+    /// One exact reservation holds every sample up to its time: no growth
+    /// while they are pushed, and a reservation for a time already covered
+    /// changes nothing.
+    #[test]
+    fn exact_reservation_holds_the_samples() {
+        let mut r = Recorder::new(200.0);
+        r.reserve_exact_until(0.175);
+        let capacity = r.times.capacity();
+        assert!(capacity >= 36);
+        assert!(r.data.iter().all(|d| d.capacity() >= 36));
+        for _ in 0..36 {
+            r.push_row(&[1.0; N_CHANNELS]);
+        }
+        r.reserve_exact_until(0.1);
+        assert_eq!(
+            r.times.capacity(),
+            capacity,
+            "no growth, nothing more reserved"
+        );
+        assert_eq!(r.times().len(), 36);
     }
 
     /// The AVX2 build of the interpolation gives the baseline build's samples

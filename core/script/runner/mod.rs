@@ -101,6 +101,17 @@ pub enum TickStep {
     Control(TickState),
 }
 
+/// Simulated time ahead of a phase's start for which [`Runner::begin`]
+/// reserves the sample memory at once, s. A phase's end is known in advance
+/// for `run_for` (its ticks) but is only a bound for `run_until` (its
+/// `max_time`, 60 s by default and any length allowed): a phase that ends
+/// early would keep what was reserved for the rest unused until the run ends.
+/// 60 s covers the whole of the usual phase (seconds to tens of seconds) and
+/// at most 60 s × rate × (channels + 1) × 8 bytes, e.g. about 36 MB at 1 kHz,
+/// never more than the sample-memory budget checked for the phase; beyond it
+/// the sample vectors grow by doubling again, as without the hint.
+pub const RESERVE_AHEAD_S: f64 = 60.0;
+
 /// One run's simulation and commands.
 pub struct Runner {
     config: Arc<RunConfig>,
@@ -191,7 +202,8 @@ impl Runner {
     /// A phase that starts at the current tick. The run stops (sample
     /// memory budget) if the samples up to the phase's planned end (or the
     /// simulated-time limit, if earlier) would take more memory than the
-    /// budget allows.
+    /// budget allows; otherwise the memory for them is reserved at once (at
+    /// most [`RESERVE_AHEAD_S`] ahead).
     pub fn begin(&mut self, until: Until) -> Result<Phase, RunStop> {
         if let Some(stop) = &self.stop {
             return Err(stop.clone());
@@ -213,6 +225,12 @@ impl Runner {
             let time = self.time();
             return Err(self.stop_with(RunStop::Budget { exceeded, time }));
         }
+        // The samples of the phase in one reservation, instead of the
+        // sample vectors growing by doubling as the ticks advance.
+        let reserve_end = planned_end
+            .min(self.config.limits.max_sim_time_s)
+            .min(self.time() + RESERVE_AHEAD_S);
+        self.sim.reserve_samples_until(reserve_end);
         Ok(Phase {
             until,
             start_tick: self.tick,
