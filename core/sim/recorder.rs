@@ -72,7 +72,37 @@ pub const CHECK_POINT: f64 = 0.5 * (NODES[1] + NODES[2]);
 /// inside the step (a power limit reached, a brake fading out) bends the
 /// interpolant away from the exact values; then the samples are evaluated one
 /// by one.
+///
+/// On x86-64 processors with AVX2 the same code runs compiled for it, chosen
+/// at run time as for [`interpolate_channels`]; both builds do the same IEEE
+/// operations in the same order (no fused multiply-add), so they give the
+/// same answer (test `avx2_and_baseline_check_alike`).
 pub fn interpolation_holds(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2 (checked just above).
+        return unsafe { interpolation_holds_avx2(nodes, exact, tolerance) };
+    }
+    interpolation_holds_baseline(nodes, exact, tolerance)
+}
+
+/// [`interpolation_holds`] compiled for AVX2.
+///
+/// # Safety
+/// The processor must support AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn interpolation_holds_avx2(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {
+    interpolation_holds_lanes(nodes, exact, tolerance)
+}
+
+/// [`interpolation_holds`] compiled for the baseline of the target.
+fn interpolation_holds_baseline(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {
+    interpolation_holds_lanes(nodes, exact, tolerance)
+}
+
+#[inline(always)]
+fn interpolation_holds_lanes(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {
     let w = lagrange_weights(CHECK_POINT);
     // Every channel checked, without an early exit: a loop over the channels
     // that the compiler turns into vector instructions.
@@ -377,6 +407,53 @@ mod tests {
             "no growth, nothing more reserved"
         );
         assert_eq!(r.times().len(), 36);
+    }
+
+    /// The AVX2 build of the interpolation check gives the baseline build's
+    /// answer on random rows (a fixed-seed generator), with tolerances
+    /// around each row's own error so that both answers occur.
+    #[test]
+    fn avx2_and_baseline_check_alike() {
+        // xorshift64* (Vigna, "An experimental exploration of Marsaglia's
+        // xorshift generators, scrambled", 2016): uniform in [-1, 1).
+        let mut seed = 0x9e37_79b9_7f4a_7c15_u64;
+        let mut uniform = move || {
+            seed ^= seed >> 12;
+            seed ^= seed << 25;
+            seed ^= seed >> 27;
+            let bits = seed.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11;
+            bits as f64 / (1u64 << 52) as f64 - 1.0
+        };
+        let (mut held, mut failed) = (0, 0);
+        for case in 0..400 {
+            let magnitude = 10f64.powi(case % 13 - 6);
+            let nodes: [Row; N_NODES] =
+                std::array::from_fn(|_| std::array::from_fn(|_| magnitude * uniform()));
+            // The exact row near the interpolant: small random deviations.
+            let w = lagrange_weights(CHECK_POINT);
+            let exact: Row = std::array::from_fn(|c| {
+                let interpolated: f64 = (0..N_NODES).map(|j| w[j] * nodes[j][c]).sum();
+                interpolated + 1e-4 * magnitude * uniform().powi(7)
+            });
+            let tolerance = 10f64.powi(-(case % 9) - 3);
+            let baseline = interpolation_holds_baseline(&nodes, &exact, tolerance);
+            if baseline {
+                held += 1;
+            } else {
+                failed += 1;
+            }
+            assert_eq!(interpolation_holds(&nodes, &exact, tolerance), baseline);
+            #[cfg(target_arch = "x86_64")]
+            if std::arch::is_x86_feature_detected!("avx2") {
+                // SAFETY: the processor has AVX2 (checked just above).
+                let avx2 = unsafe { interpolation_holds_avx2(&nodes, &exact, tolerance) };
+                assert_eq!(avx2, baseline, "case {case}");
+            }
+        }
+        assert!(
+            held > 20 && failed > 20,
+            "both answers: {held} held, {failed} failed"
+        );
     }
 
     /// The AVX2 build of the interpolation gives the baseline build's samples
