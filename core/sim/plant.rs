@@ -72,7 +72,10 @@ pub(super) struct Plant<'a> {
     inputs: &'a dyn InputSource,
     /// First non-finite value seen: (time, state index).
     bad: Cell<Option<(f64, usize)>>,
-    /// The last evaluation made.
+    /// The last evaluation made. After the first, each evaluation is made
+    /// in place here and the solver's derivative copied from it, instead of
+    /// building a `Captured` and copying it in (about 1 % of the instructions
+    /// of a 10 s cornering run).
     last: RefCell<Option<Captured>>,
 }
 
@@ -99,7 +102,18 @@ impl<'a> Plant<'a> {
 
 impl System<f64, State> for Plant<'_> {
     fn system(&self, t: f64, x: &State, dx: &mut State) {
-        let captured = Captured::evaluate(self.model, self.inputs, t, x);
+        let mut last = self.last.borrow_mut();
+        let captured = match &mut *last {
+            // Into the slot: no copy of the whole capture.
+            Some(c) => {
+                c.t = t;
+                c.state = *x;
+                c.commands = self.inputs.commands(t);
+                c.evaluation = self.model.evaluate(x, &c.commands);
+                c
+            }
+            None => last.insert(Captured::evaluate(self.model, self.inputs, t, x)),
+        };
         *dx = captured.evaluation.derivative;
         // A NaN or infinity anywhere makes the sum non-finite (one pass, no
         // branch per element); only then is the offending state looked for.
@@ -108,7 +122,6 @@ impl System<f64, State> for Plant<'_> {
                 self.bad.set(Some((t, i % N_STATES)));
             }
         }
-        *self.last.borrow_mut() = Some(captured);
     }
 
     fn solout(&mut self, _t: f64, _x: &State, _dx: &State) -> bool {
