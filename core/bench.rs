@@ -15,7 +15,7 @@ use crate::model::{
     Commands, Prepared, SteerAngles, VX, VY, YAW_RATE, evaluate_prepared, straight_running,
 };
 use crate::params::Vehicle;
-use crate::sim::{InputSource, SimError, Simulation, SolverSettings};
+use crate::sim::{InputSource, SimError, Simulation, SolverKind, SolverSettings};
 
 /// What to run.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -131,6 +131,11 @@ pub struct BenchReport {
     /// Largest |yaw-rate difference| of the open-loop 1 kHz run against the
     /// same run at rtol = atol = 1e-10, rad/s.
     pub open_loop_yaw_rate_error: f64,
+    /// The same for the open-loop runs with `ark436` at the default
+    /// tolerance and at 1e-4, rad/s.
+    pub ark436_yaw_rate_error: f64,
+    /// See `ark436_yaw_rate_error`.
+    pub ark436_loose_yaw_rate_error: f64,
     /// Lateral acceleration at the end of the open-loop run, m/s² (shows the
     /// run is meaningful).
     pub final_lat_accel: f64,
@@ -178,6 +183,9 @@ impl InputSource for Replay {
 enum Scenario {
     /// Constant commands, one `advance` call.
     OpenLoop { rate: f64, exact_outputs: bool },
+    /// As `OpenLoop` at 1 kHz with the additive solver (`ark436`) at
+    /// rtol = atol = `tolerance`.
+    OpenLoopArk { tolerance: f64 },
     /// Constant commands, one `advance` per 10 ms tick.
     Ticked,
     /// A PI speed hold at every 10 ms tick (commands change every tick).
@@ -221,6 +229,17 @@ impl Bench<'_> {
                 sim.advance(end, &self.commands)?;
                 sim
             }
+            Scenario::OpenLoopArk { tolerance } => {
+                let ark = SolverSettings {
+                    kind: SolverKind::Ark436,
+                    rtol: tolerance,
+                    atol: tolerance,
+                    ..settings
+                };
+                let mut sim = self.new_sim(1000.0, ark)?;
+                sim.advance(end, &self.commands)?;
+                sim
+            }
             Scenario::Ticked => {
                 let mut sim = self.new_sim(1000.0, settings)?;
                 // The sample memory of the whole run at once, as the script
@@ -261,7 +280,7 @@ impl Bench<'_> {
 }
 
 /// The timed runs: name, description, scenario.
-const RUNS: [(&str, &str, Scenario); 6] = [
+const RUNS: [(&str, &str, Scenario); 8] = [
     (
         "open_loop_1khz",
         "constant steer, one segment, 1 kHz output",
@@ -300,6 +319,16 @@ const RUNS: [(&str, &str, Scenario); 6] = [
             rate: 1000.0,
             exact_outputs: true,
         },
+    ),
+    (
+        "open_loop_1khz_ark436",
+        "as open_loop_1khz with the additive solver ark436 (wheels implicit)",
+        Scenario::OpenLoopArk { tolerance: 1e-6 },
+    ),
+    (
+        "open_loop_1khz_ark436_1e-4",
+        "as open_loop_1khz_ark436 at rtol = atol = 1e-4",
+        Scenario::OpenLoopArk { tolerance: 1e-4 },
     ),
 ];
 
@@ -365,6 +394,10 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
         .collect();
     let (open, _) = bench.run(RUNS[0].2, settings, &replay)?;
     let (open_reference, _) = bench.run(RUNS[0].2, tight, &replay)?;
+    let ark_error = |scenario| -> Result<f64, SimError> {
+        let (sim, _) = bench.run(scenario, settings, &replay)?;
+        Ok(max_difference(&sim, &open_reference, "yaw_rate"))
+    };
     let final_lat_accel = open
         .channel("ay")
         .and_then(|c| c.last().copied())
@@ -378,6 +411,8 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
         closed_loop_evaluation_ratio,
         closed_loop_yaw_rate_error: yaw_rate_error,
         open_loop_yaw_rate_error: max_difference(&open, &open_reference, "yaw_rate"),
+        ark436_yaw_rate_error: ark_error(Scenario::OpenLoopArk { tolerance: 1e-6 })?,
+        ark436_loose_yaw_rate_error: ark_error(Scenario::OpenLoopArk { tolerance: 1e-4 })?,
         final_lat_accel,
     })
 }

@@ -132,6 +132,16 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         "rad/s",
     ]);
     t.row([
+        "open-loop yaw-rate error, ark436",
+        &fmt_num(report.ark436_yaw_rate_error, 3),
+        "rad/s",
+    ]);
+    t.row([
+        "open-loop yaw-rate error, ark436 at 1e-4",
+        &fmt_num(report.ark436_loose_yaw_rate_error, 3),
+        "rad/s",
+    ]);
+    t.row([
         "final lateral acceleration (open loop)",
         &fmt_num(report.final_lat_accel, 4),
         "m/s^2",

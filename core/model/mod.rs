@@ -75,7 +75,9 @@ pub use units::{
     electrical_power, engine_available_torque, fuel_mass_flow, generator_available_torque,
     motor_available_torque, shaft_torque, torque_for_output_power, torque_from_input_power,
 };
-pub use wheels::{LOW_SPEED, STANDSTILL_WHEEL_SPEED, wheel_equations};
+pub use wheels::{
+    LOW_SPEED, STANDSTILL_WHEEL_SPEED, WheelJacobian, wheel_equations, wheel_jacobian,
+};
 
 use crate::params::{GRAVITY, Vehicle};
 

@@ -70,7 +70,7 @@ pub struct Provenance {
     pub vehicle_toml: String,
     /// The overrides applied, as `key=value` strings, in order.
     pub overrides: Vec<String>,
-    /// Solver name (`dopri5`, `dop853`, `rk4`).
+    /// Solver name (`dopri5`, `dop853`, `rk4`, `ark436`).
     pub solver: String,
     /// Relative tolerance of the adaptive solvers.
     pub rtol: f64,

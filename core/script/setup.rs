@@ -265,7 +265,9 @@ impl Setup {
     pub fn solver(&mut self, name: &str, tolerances: Option<(f64, f64)>) -> Result<(), SetupError> {
         self.before_start("solver(...)")?;
         let kind = SolverKind::from_name(name).ok_or_else(|| {
-            SetupError::Invalid(format!("unknown solver \"{name}\" (dopri5, dop853 or rk4)"))
+            SetupError::Invalid(format!(
+                "unknown solver \"{name}\" (dopri5, dop853, rk4 or ark436)"
+            ))
         })?;
         if let Some((rtol, atol)) = tolerances {
             if !(rtol > 0.0 && atol > 0.0) {

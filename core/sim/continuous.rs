@@ -6,7 +6,9 @@
 use nalgebra::Const;
 use ode_solvers::Dopri5Stepper;
 use ode_solvers::controller::Controller;
-use ode_solvers::dop_shared::IntegrationError;
+use ode_solvers::dop_shared::{IntegrationError, Stats};
+
+use super::ark::ArkStepper;
 
 use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
 use super::plant::{Captured, Model, Plant};
@@ -41,6 +43,9 @@ mod control {
     pub const BETA: f64 = 0.04;
     /// α = 0.2 − 0.75·β (Hairer et al.'s choice for order 5).
     pub const ALPHA: f64 = 0.2 - 0.75 * BETA;
+    /// α = 1/4 − 0.75·β for the additive Runge–Kutta pair, whose error
+    /// estimate (of its 3rd-order solution) is of 4th order in the step.
+    pub const ARK_ALPHA: f64 = 0.25 - 0.75 * BETA;
     /// Smallest step ratio.
     pub const FAC_MIN: f64 = 0.2;
     /// Largest step ratio.
@@ -58,9 +63,88 @@ enum StepOutput {
     Interpolated,
 }
 
+/// The stepper of a continuous integration: Dopri5 (explicit) or the
+/// additive Runge–Kutta stepper with the wheels implicit. One per
+/// simulation, inside the boxed `Continuous`: the size difference between
+/// the variants costs nothing.
+#[allow(clippy::large_enum_variant)]
+enum Stepper {
+    Dopri5(Dopri5Stepper<f64, Const<N_STATES>>),
+    Ark(ArkStepper),
+}
+
+impl Stepper {
+    fn restart(&mut self, t: f64, y: State) {
+        match self {
+            Self::Dopri5(s) => s.restart(t, y),
+            Self::Ark(s) => s.restart(t, y),
+        }
+    }
+
+    fn stats(&self) -> Stats {
+        match self {
+            Self::Dopri5(s) => s.stats(),
+            Self::Ark(s) => s.stats(),
+        }
+    }
+
+    fn has_derivative(&self) -> bool {
+        match self {
+            Self::Dopri5(s) => s.has_derivative(),
+            Self::Ark(s) => s.has_derivative(),
+        }
+    }
+
+    fn derivative(&mut self, plant: &Plant) {
+        match self {
+            Self::Dopri5(s) => {
+                s.derivative(plant);
+            }
+            Self::Ark(s) => {
+                s.derivative(plant);
+            }
+        }
+    }
+
+    fn step(&mut self, plant: &Plant, stop: Option<f64>) -> Result<(), IntegrationError> {
+        match self {
+            Self::Dopri5(s) => s.step(plant, stop),
+            Self::Ark(s) => s.step(plant, stop),
+        }
+    }
+
+    fn x(&self) -> f64 {
+        match self {
+            Self::Dopri5(s) => s.x(),
+            Self::Ark(s) => s.x(),
+        }
+    }
+
+    fn x_old(&self) -> f64 {
+        match self {
+            Self::Dopri5(s) => s.x_old(),
+            Self::Ark(s) => s.x_old(),
+        }
+    }
+
+    fn y(&self) -> &State {
+        match self {
+            Self::Dopri5(s) => s.y(),
+            Self::Ark(s) => s.y(),
+        }
+    }
+
+    fn dense(&self, t: f64) -> State {
+        match self {
+            Self::Dopri5(s) => s.dense(t),
+            Self::Ark(s) => s.dense(t),
+        }
+    }
+}
+
 /// Integration state carried between `advance` calls.
 pub(super) struct Continuous {
-    stepper: Dopri5Stepper<f64, Const<N_STATES>>,
+    stepper: Stepper,
     /// Revision of the inputs of the last call (`None` = unknown).
     revision: Option<u64>,
     /// Exact evaluations at the start and the end of the last accepted step
@@ -78,11 +162,18 @@ pub(super) struct Continuous {
 }
 
 impl Continuous {
-    pub fn new(time: f64, state: State, rtol: f64, atol: f64) -> Self {
+    pub fn new(time: f64, state: State, rtol: f64, atol: f64, ark: bool) -> Self {
         use control::*;
-        let controller = Controller::new(ALPHA, BETA, FAC_MAX, FAC_MIN, MAX_STEP, SAFETY, 1.0);
+        let stepper = if ark {
+            let controller =
+                Controller::new(ARK_ALPHA, BETA, FAC_MAX, FAC_MIN, MAX_STEP, SAFETY, 1.0);
+            Stepper::Ark(ArkStepper::new(time, state, rtol, atol, controller))
+        } else {
+            let controller = Controller::new(ALPHA, BETA, FAC_MAX, FAC_MIN, MAX_STEP, SAFETY, 1.0);
+            Stepper::Dopri5(Dopri5Stepper::new(time, state, rtol, atol, controller))
+        };
         Self {
-            stepper: Dopri5Stepper::new(time, state, rtol, atol, controller),
+            stepper,
             revision: None,
             at_start: None,
             at_end: None,

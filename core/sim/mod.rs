@@ -52,6 +52,7 @@
 //! A non-finite state derivative or a solver failure stops the run with the
 //! time and the offending state named; everything sampled so far is kept.
 
+mod ark;
 mod channels;
 mod continuous;
 mod plant;
@@ -105,6 +106,9 @@ pub enum SolverKind {
     Dop853,
     /// Classical fourth-order Runge–Kutta with a fixed step.
     Rk4,
+    /// Additive Runge–Kutta 4(3) (ARK4(3)6L[2]SA), adaptive: the wheels'
+    /// spin and slip equations implicit, the rest explicit.
+    Ark436,
 }
 
 impl SolverKind {
@@ -114,15 +118,17 @@ impl SolverKind {
             Self::Dopri5 => "dopri5",
             Self::Dop853 => "dop853",
             Self::Rk4 => "rk4",
+            Self::Ark436 => "ark436",
         }
     }
 
-    /// Parses `dopri5`, `dop853` or `rk4`.
+    /// Parses `dopri5`, `dop853`, `rk4` or `ark436`.
     pub fn from_name(name: &str) -> Option<Self> {
         match name {
             "dopri5" => Some(Self::Dopri5),
             "dop853" => Some(Self::Dop853),
             "rk4" => Some(Self::Rk4),
+            "ark436" => Some(Self::Ark436),
             _ => None,
         }
     }
@@ -360,8 +366,16 @@ impl Simulation {
                 "the vehicle's {name} gives a non-finite constant"
             )));
         }
-        let continuous = (settings.kind == SolverKind::Dopri5)
-            .then(|| Box::new(Continuous::new(0.0, initial, settings.rtol, settings.atol)));
+        let ark = settings.kind == SolverKind::Ark436;
+        let continuous = (settings.kind == SolverKind::Dopri5 || ark).then(|| {
+            Box::new(Continuous::new(
+                0.0,
+                initial,
+                settings.rtol,
+                settings.atol,
+                ark,
+            ))
+        });
         Ok(Self {
             steer: SteerAngles::new(&vehicle, 0.0),
             prepared: Arc::new(prepared),
@@ -478,7 +492,7 @@ impl Simulation {
         }
         let t_end = t_end.max(self.time);
         let result = match self.settings.kind {
-            SolverKind::Dopri5 => self.advance_continuous(t_end, inputs),
+            SolverKind::Dopri5 | SolverKind::Ark436 => self.advance_continuous(t_end, inputs),
             SolverKind::Dop853 | SolverKind::Rk4 => self.advance_stepwise(t_end, inputs),
         };
         if let Err(e) = &result {

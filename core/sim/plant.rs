@@ -7,8 +7,9 @@ use std::cell::{Cell, RefCell};
 use ode_solvers::dop_shared::System;
 
 use super::InputSource;
-use crate::model::evaluate_prepared;
+use super::ark::SplitSystem;
 use crate::model::{Commands, Evaluation, N_STATES, Prepared, State, SteerAngles};
+use crate::model::{WheelJacobian, evaluate_prepared, wheel_jacobian};
 use crate::params::Vehicle;
 
 /// The model of one simulation: the vehicle, its prepared constants and the
@@ -126,6 +127,23 @@ impl System<f64, State> for Plant<'_> {
 
     fn solout(&mut self, _t: f64, _x: &State, _dx: &State) -> bool {
         self.bad.get().is_some()
+    }
+}
+
+impl SplitSystem for Plant<'_> {
+    fn linear_part(&self, t: f64, y: &State) -> WheelJacobian {
+        let c = self
+            .last_at(t, y)
+            .unwrap_or_else(|| Captured::evaluate(self.model, self.inputs, t, y));
+        let w = &c.evaluation.wheels;
+        wheel_jacobian(
+            self.model.prepared,
+            y,
+            &w.map(|w| w.fz),
+            &w.map(|w| w.contact_speed),
+            &w.map(|w| w.fx),
+            &w.map(|w| w.brake_torque),
+        )
     }
 }
 

@@ -89,7 +89,7 @@ fn integrators_agree() {
         *sim.state()
     };
     let a = run(SolverKind::Dopri5);
-    for kind in [SolverKind::Dop853, SolverKind::Rk4] {
+    for kind in [SolverKind::Dop853, SolverKind::Rk4, SolverKind::Ark436] {
         let b = run(kind);
         for i in [VX, YAW_RATE] {
             assert!(
@@ -107,7 +107,12 @@ fn integrators_agree() {
 fn samples_at_exact_period_multiples() {
     let v = crossover();
     let c = turning(&v);
-    for kind in [SolverKind::Dopri5, SolverKind::Dop853, SolverKind::Rk4] {
+    for kind in [
+        SolverKind::Dopri5,
+        SolverKind::Dop853,
+        SolverKind::Rk4,
+        SolverKind::Ark436,
+    ] {
         let mut sim =
             Simulation::new(&v, straight_running(&v, 20.0), settings(kind, 1e-6), 200.0).unwrap();
         let mut t = 0.0;
@@ -286,7 +291,12 @@ fn command_revision_follows_every_field() {
 fn non_finite_input_stops_with_time_and_state() {
     let v = crossover();
     let c = turning(&v);
-    for kind in [SolverKind::Dopri5, SolverKind::Dop853, SolverKind::Rk4] {
+    for kind in [
+        SolverKind::Dopri5,
+        SolverKind::Dop853,
+        SolverKind::Rk4,
+        SolverKind::Ark436,
+    ] {
         let mut sim =
             Simulation::new(&v, straight_running(&v, 20.0), settings(kind, 1e-6), 100.0).unwrap();
         sim.advance(1.0, &c).unwrap();
