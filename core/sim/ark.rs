@@ -131,7 +131,13 @@ pub(super) trait SplitSystem: System<f64, State> {
 
 /// `j`, or all zeros (every wheel explicit) if any entry is not finite.
 fn finite_or_zero(j: WheelJacobian) -> WheelJacobian {
-    let all = [j.spin_spin, j.spin_slip, j.slip_spin, j.slip_slip, j.lateral];
+    let all = [
+        j.spin_spin,
+        j.spin_slip,
+        j.slip_spin,
+        j.slip_slip,
+        j.lateral,
+    ];
     if all.iter().flatten().all(|v| v.is_finite()) {
         j
     } else {
