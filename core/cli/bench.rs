@@ -137,7 +137,7 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         "rad/s",
     ]);
     t.row([
-        "open-loop yaw-rate error, ark436 at 1e-4",
+        "open-loop yaw-rate error, ark436 at 1e-5",
         &fmt_num(report.ark436_loose_yaw_rate_error, 3),
         "rad/s",
     ]);

@@ -132,10 +132,17 @@ impl System<f64, State> for Plant<'_> {
 
 impl SplitSystem for Plant<'_> {
     fn linear_part(&self, t: f64, y: &State) -> WheelJacobian {
-        let c = self
-            .last_at(t, y)
-            .unwrap_or_else(|| Captured::evaluate(self.model, self.inputs, t, y));
-        let w = &c.evaluation.wheels;
+        // The evaluation just made at (t, y), borrowed, not copied.
+        let last = self.last.borrow();
+        let fresh;
+        let evaluation = match &*last {
+            Some(c) if c.is_at(t, y) => &c.evaluation,
+            _ => {
+                fresh = Captured::evaluate(self.model, self.inputs, t, y);
+                &fresh.evaluation
+            }
+        };
+        let w = &evaluation.wheels;
         wheel_jacobian(
             self.model.prepared,
             y,
