@@ -186,8 +186,9 @@ enum Scenario {
     /// As `OpenLoop` at 1 kHz with the additive solver (`ark436`) at
     /// rtol = atol = `tolerance`.
     OpenLoopArk { tolerance: f64 },
-    /// Constant commands, one `advance` per 10 ms tick.
-    Ticked,
+    /// Constant commands, one `advance` per 10 ms tick; with the additive
+    /// solver at rtol = atol = `ark` when given.
+    Ticked { ark: Option<f64> },
     /// A PI speed hold at every 10 ms tick (commands change every tick).
     ClosedLoop,
     /// The closed-loop run's commands replayed as one segment.
@@ -230,17 +231,12 @@ impl Bench<'_> {
                 sim
             }
             Scenario::OpenLoopArk { tolerance } => {
-                let ark = SolverSettings {
-                    kind: SolverKind::Ark436,
-                    rtol: tolerance,
-                    atol: tolerance,
-                    ..settings
-                };
-                let mut sim = self.new_sim(1000.0, ark)?;
+                let mut sim = self.new_sim(1000.0, additive(settings, tolerance))?;
                 sim.advance(end, &self.commands)?;
                 sim
             }
-            Scenario::Ticked => {
+            Scenario::Ticked { ark } => {
+                let settings = ark.map_or(settings, |tolerance| additive(settings, tolerance));
                 let mut sim = self.new_sim(1000.0, settings)?;
                 // The sample memory of the whole run at once, as the script
                 // runner reserves it when a phase begins.
@@ -279,8 +275,18 @@ impl Bench<'_> {
     }
 }
 
+/// `settings` with the additive solver at rtol = atol = `tolerance`.
+fn additive(settings: SolverSettings, tolerance: f64) -> SolverSettings {
+    SolverSettings {
+        kind: SolverKind::Ark436,
+        rtol: tolerance,
+        atol: tolerance,
+        ..settings
+    }
+}
+
 /// The timed runs: name, description, scenario.
-const RUNS: [(&str, &str, Scenario); 8] = [
+const RUNS: [(&str, &str, Scenario); 9] = [
     (
         "open_loop_1khz",
         "constant steer, one segment, 1 kHz output",
@@ -292,7 +298,7 @@ const RUNS: [(&str, &str, Scenario); 8] = [
     (
         "ticked_1khz",
         "constant steer, 100 Hz ticks (commands unchanged), 1 kHz output",
-        Scenario::Ticked,
+        Scenario::Ticked { ark: None },
     ),
     (
         "closed_loop_1khz",
@@ -329,6 +335,11 @@ const RUNS: [(&str, &str, Scenario); 8] = [
         "open_loop_1khz_ark436_1e-5",
         "as open_loop_1khz_ark436 at rtol = atol = 1e-5",
         Scenario::OpenLoopArk { tolerance: 1e-5 },
+    ),
+    (
+        "ticked_1khz_ark436_1e-5",
+        "as ticked_1khz with the additive solver ark436 at rtol = atol = 1e-5",
+        Scenario::Ticked { ark: Some(1e-5) },
     ),
 ];
 

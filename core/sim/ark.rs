@@ -189,7 +189,9 @@ pub(super) struct ArkStepper {
     fsal: bool,
     t_old: f64,
     y_old: State,
-    f_old: State,
+    /// Coefficients r₁, r₂, r₃ of the last step's dense output (see
+    /// [`dense`](Self::dense)).
+    hermite: [State; 3],
     /// Size of the last accepted step (0 after a restart: no dense output).
     h_old: f64,
     /// Size of the next step to try (0 = choose).
@@ -211,7 +213,7 @@ impl ArkStepper {
             fsal: false,
             t_old: t,
             y_old: y,
-            f_old: State::zeros(),
+            hermite: [State::zeros(); 3],
             h_old: 0.0,
             h: 0.0,
             rtol,
@@ -332,12 +334,13 @@ impl ArkStepper {
             };
             self.t_old = self.t;
             self.y_old = self.y;
-            self.f_old = self.f;
+            let f_old = self.f;
             self.t = t_next;
             self.y = y_next;
             self.fsal = false;
             self.derivative(f);
             self.h_old = self.t - self.t_old;
+            self.set_dense_output(&f_old);
             self.h = if clipped && h_new >= h {
                 h_new.max(wanted)
             } else {
@@ -384,6 +387,19 @@ impl ArkStepper {
         (y_next, (sum / N_STATES as f64).sqrt())
     }
 
+    /// The coefficients of the cubic Hermite interpolant of the last step
+    /// (Hairer, Nørsett & Wanner, §II.6, eq. (6.7)), from the derivative
+    /// `f_old` at its start and the stored one at its end, in the nested form
+    /// y(θ) = y₀ + θ·(r₁ + (1 − θ)·(r₂ + θ·r₃)) with r₁ = y₁ − y₀,
+    /// r₂ = h·f₀ − r₁, r₃ = r₁ − r₂ − h·f₁ (the ends and end slopes match).
+    fn set_dense_output(&mut self, f_old: &State) {
+        let h = self.h_old;
+        let r1 = self.y - self.y_old;
+        let r2 = f_old * h - r1;
+        let r3 = r1 - r2 - self.f * h;
+        self.hermite = [r1, r2, r3];
+    }
+
     /// The cubic Hermite dense output of the last accepted step at `t` in
     /// [`x_old`](Self::x_old)..=[`x`](Self::x); the current solution if no
     /// step was taken since the last restart.
@@ -391,15 +407,9 @@ impl ArkStepper {
         if self.h_old == 0.0 {
             return self.y;
         }
-        let h = self.h_old;
-        let theta = (t - self.t_old) / h;
-        let theta1 = 1.0 - theta;
-        // Hairer et al. (6.7): (1−θ)·y₀ + θ·y₁ + θ(θ−1)·((1−2θ)(y₁−y₀) + (θ−1)h·f₀ + θh·f₁).
-        let dy = self.y - self.y_old;
-        self.y_old * theta1
-            + self.y * theta
-            + (dy * (1.0 - 2.0 * theta) + self.f_old * ((theta - 1.0) * h) + self.f * (theta * h))
-                * (theta * (theta - 1.0))
+        let theta = (t - self.t_old) / self.h_old;
+        let [r1, r2, r3] = &self.hermite;
+        self.y_old + (r1 + (r2 + r3 * theta) * (1.0 - theta)) * theta
     }
 }
 
@@ -580,9 +590,11 @@ mod tests {
         s.t = t1;
         s.h_old = t1 - t0;
         s.y_old[0] = p(t0);
-        s.f_old[0] = dp(t0);
         s.y[0] = p(t1);
         s.f[0] = dp(t1);
+        let mut f_old = State::zeros();
+        f_old[0] = dp(t0);
+        s.set_dense_output(&f_old);
         for k in 0..=10 {
             let t = t0 + (t1 - t0) * k as f64 / 10.0;
             assert!((s.dense(t)[0] - p(t)).abs() < 1e-14, "at {t}");
