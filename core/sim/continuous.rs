@@ -254,6 +254,13 @@ impl Simulation {
         model: Model,
     ) -> Result<(), SimError> {
         let plant = Plant::new(model, inputs);
+        // The evaluation at the current point, made in an earlier call: the
+        // additive stepper's wheel Jacobian reads it instead of evaluating the
+        // model again (after a restart the derivative is evaluated again and
+        // replaces it). Dopri5 does not need it.
+        if let (Stepper::Ark(_), Some(c)) = (&run.stepper, run.at_end) {
+            plant.remember(c);
+        }
         let mut steps = 0_u32;
         loop {
             // Derivative at the current point after a restart (captured for samples).

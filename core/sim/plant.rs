@@ -95,6 +95,12 @@ impl<'a> Plant<'a> {
         self.bad.get()
     }
 
+    /// Takes `captured` as the last evaluation made (one from an earlier
+    /// plant of the same simulation).
+    pub fn remember(&self, captured: Captured) {
+        *self.last.borrow_mut() = Some(captured);
+    }
+
     /// The last evaluation made, if it was at exactly (`t`, `state`).
     pub fn last_at(&self, t: f64, state: &State) -> Option<Captured> {
         (*self.last.borrow()).filter(|c| c.is_at(t, state))
