@@ -121,26 +121,19 @@ pub fn run(mut args: Args) -> anyhow::Result<Outcome> {
         &fmt_num(report.closed_loop_evaluation_ratio, 4),
         "1",
     ]);
-    t.row([
-        "closed-loop yaw-rate error against rtol 1e-10",
-        &fmt_num(report.closed_loop_yaw_rate_error, 3),
-        "rad/s",
-    ]);
-    t.row([
-        "open-loop yaw-rate error against rtol 1e-10",
-        &fmt_num(report.open_loop_yaw_rate_error, 3),
-        "rad/s",
-    ]);
-    t.row([
-        "open-loop yaw-rate error, ark436",
-        &fmt_num(report.ark436_yaw_rate_error, 3),
-        "rad/s",
-    ]);
-    t.row([
-        "open-loop yaw-rate error, ark436 at 1e-5",
-        &fmt_num(report.ark436_loose_yaw_rate_error, 3),
-        "rad/s",
-    ]);
+    let yaw_rate_errors = [
+        ("closed-loop", report.closed_loop_yaw_rate_error),
+        ("open-loop", report.open_loop_yaw_rate_error),
+        ("open-loop, ark436", report.ark436_yaw_rate_error),
+        (
+            "open-loop, ark436 at 1e-5",
+            report.ark436_loose_yaw_rate_error,
+        ),
+    ];
+    for (run, error) in yaw_rate_errors {
+        let label = format!("{run} yaw-rate error against rtol 1e-10");
+        t.row([label.as_str(), &fmt_num(error, 3), "rad/s"]);
+    }
     t.row([
         "final lateral acceleration (open loop)",
         &fmt_num(report.final_lat_accel, 4),

@@ -79,7 +79,7 @@ pub struct WheelJacobian {
 /// Step of the difference quotient for the longitudinal slip stiffness
 /// ∂Fx/∂κ′ (dimensionless slip). A forward difference with a step near the
 /// square root of the machine epsilon times the slip scale has an error of
-/// about 1e-8 relative, far below what the splitting needs (Press et al.,
+/// about 1e-8 relative, far below what the splitting needs (from memory: Press et al.,
 /// *Numerical Recipes*, 3rd ed., §5.7, eq. (5.7.5)).
 const SLIP_STEP: f64 = 1e-8;
 

@@ -1,7 +1,8 @@
 //! An additive Runge–Kutta stepper, ARK4(3)6L[2]SA (Kennedy & Carpenter,
 //! "Additive Runge–Kutta schemes for convection–diffusion–reaction
-//! equations", *Applied Numerical Mathematics* 44 (2003) 139–181, §8 and
-//! Appendix C), for a right-hand side split as f = (f − J·(y − yₙ)) + J·(y − yₙ):
+//! equations", *Applied Numerical Mathematics* 44 (2003) 139–181; sections
+//! from memory, coefficients checked against the order conditions), for a
+//! right-hand side split as f = (f − J·(y − yₙ)) + J·(y − yₙ):
 //! the second part, linear with the matrix J of the wheels' fast spin and slip
 //! equations frozen at the step's start, is taken implicitly (an L-stable,
 //! stiffly accurate ESDIRK), the rest explicitly. Each implicit stage is a
@@ -33,7 +34,7 @@ const STAGES: usize = 6;
 const GAMMA: f64 = 0.25;
 
 /// The coefficients of ARK4(3)6L[2]SA (Kennedy & Carpenter 2003, Appendix C,
-/// tables of ARK4(3)6L[2]SA-ERK and -ESDIRK): stage times c, explicit and
+/// tables of ARK4(3)6L[2]SA-ERK and -ESDIRK; section from memory): stage times c, explicit and
 /// implicit stage weights (strictly lower parts; the implicit diagonal is
 /// [`GAMMA`] after the first stage), the weights b of the 4th-order solution
 /// (shared by both parts) and b̂ of the embedded 3rd-order one. Checked
@@ -388,7 +389,7 @@ impl ArkStepper {
     }
 
     /// The coefficients of the cubic Hermite interpolant of the last step
-    /// (Hairer, Nørsett & Wanner, §II.6, eq. (6.7)), from the derivative
+    /// (Hairer, Nørsett & Wanner, §II.6, eq. (6.7), from memory), from the derivative
     /// `f_old` at its start and the stored one at its end, in the nested form
     /// y(θ) = y₀ + θ·(r₁ + (1 − θ)·(r₂ + θ·r₃)) with r₁ = y₁ − y₀,
     /// r₂ = h·f₀ − r₁, r₃ = r₁ − r₂ − h·f₁ (the ends and end slopes match).

@@ -5,7 +5,7 @@ use super::*;
 
 /// The order conditions of an additive Runge–Kutta pair up to order 4,
 /// with every combination of the explicit and implicit tableaux
-/// (Kennedy & Carpenter 2003, §3, table 2): the 4th-order weights meet
+/// (Kennedy & Carpenter 2003, §3, table 2, from memory): the 4th-order weights meet
 /// them all, the 3rd-order embedded weights those up to order 3.
 #[test]
 fn order_conditions_hold() {
@@ -61,8 +61,8 @@ fn order_conditions_hold() {
 /// g = (sin t, cos t): the Prothero–Robinson test problem (Prothero &
 /// Robinson, "On the stability and accuracy of one-step methods for
 /// solving stiff systems of ordinary differential equations", *Math.
-/// Comp.* 28 (1974) 145–162), whose exact solution from y(0) = g(0) is
-/// y = g(t) whatever the stiffness of J.
+/// Comp.* 28 (1974) 145–162, from memory), whose exact solution from
+/// y(0) = g(0) is y = g(t) whatever the stiffness of J.
 struct ProtheroRobinson {
     /// The true matrix [[a, b], [c, d]] (wheel 0's spin and slip rows).
     j: [f64; 4],
