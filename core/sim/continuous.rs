@@ -376,6 +376,8 @@ impl Simulation {
         inputs: &dyn InputSource,
         model: Model,
     ) -> StepOutput {
+        // Samples interpolated ahead in the step before are not this step's.
+        self.recorder.new_step();
         let (t0, t1) = (run.stepper.x_old(), run.stepper.x());
         let samples = self.recorder.count_due(t1);
         let (Some(start), Some(end)) = (run.at_start, run.at_end) else {

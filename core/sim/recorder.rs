@@ -132,6 +132,28 @@ pub(super) struct Recorder {
     data: Vec<Vec<f64>>,
     /// Lagrange weights of the samples of one step, node-major (scratch).
     weights: [Vec<f64>; N_NODES],
+    /// Samples interpolated ahead: the step's samples past those recorded,
+    /// already written into every channel's spare capacity (see
+    /// [`Recorder::push_interpolated`]).
+    ahead: Option<Ahead>,
+}
+
+/// Samples of one step interpolated ahead of the ones recorded, waiting in
+/// the spare capacity of every channel: the first `count` elements past each
+/// channel's length hold samples `first`.. of the step ending at `t1`.
+///
+/// Invariant: while `ahead` is set, nothing but [`Recorder::push_interpolated`]
+/// writes a channel or changes its capacity (every other writer and every
+/// reservation drops it first).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Ahead {
+    /// Start and end of the step, s.
+    t0: f64,
+    t1: f64,
+    /// Index of the first sample waiting.
+    first: u64,
+    /// Number of samples waiting.
+    count: u64,
 }
 
 impl Recorder {
@@ -142,6 +164,7 @@ impl Recorder {
             times: Vec::new(),
             data: (0..N_CHANNELS).map(|_| Vec::new()).collect(),
             weights: Default::default(),
+            ahead: None,
         }
     }
 
@@ -188,6 +211,8 @@ impl Recorder {
         if self.times.capacity() - self.times.len() >= more {
             return;
         }
+        // A reallocation keeps only the recorded samples.
+        self.ahead = None;
         self.times.reserve(more);
         for d in &mut self.data {
             d.reserve(more);
@@ -201,6 +226,8 @@ impl Recorder {
         if self.times.capacity() - self.times.len() >= more {
             return;
         }
+        // A reallocation keeps only the recorded samples.
+        self.ahead = None;
         self.times.reserve_exact(more);
         for d in &mut self.data {
             d.reserve_exact(more);
@@ -214,6 +241,7 @@ impl Recorder {
 
     /// Records the next sample from its channel values.
     pub fn push_row(&mut self, row: &Row) {
+        self.ahead = None;
         self.times.push(self.next_time());
         for (d, v) in self.data.iter_mut().zip(row) {
             d.push(*v);
@@ -223,29 +251,81 @@ impl Recorder {
 
     /// Records every sample due in (t0, `until`] by interpolating `nodes`,
     /// the channel values at the [`NODES`] of the step [t0, t1].
+    ///
+    /// The first call of a step interpolates every sample of the step that
+    /// fits in the room already reserved, not only those due by `until`
+    /// (with controller ticks inside a step, the samples after the tick are
+    /// due at the next call): one pass over the channels per step instead of
+    /// one per tick. The samples ahead wait in each channel's spare capacity
+    /// and later calls of the same step only record them. A new step, or any
+    /// other write, drops them (`Simulation` calls [`Recorder::new_step`]).
     pub fn push_interpolated(&mut self, t0: f64, t1: f64, until: f64, nodes: &[Row; N_NODES]) {
+        let due = self.count_due(until);
+        if due == 0 {
+            return;
+        }
+        let waiting = self
+            .ahead
+            .is_some_and(|a| a.t0 == t0 && a.t1 == t1 && a.first == self.next && a.count >= due);
+        if !waiting {
+            self.interpolate_ahead(t0, t1, due, nodes);
+        }
+        let ahead = self.ahead.as_mut().expect("interpolated just above");
+        for _ in 0..due {
+            self.times.push(self.next as f64 / self.rate);
+            self.next += 1;
+        }
+        ahead.first += due;
+        ahead.count -= due;
+        for d in &mut self.data {
+            // SAFETY: the `due` elements past the length were written by
+            // `interpolate_ahead` (samples `first`..`first + count` of this
+            // step, count ≥ due), and nothing has written the channel or
+            // reallocated it since (the invariant of `Ahead`).
+            unsafe { d.set_len(d.len() + due as usize) };
+        }
+    }
+
+    /// Drops the samples interpolated ahead: the next step has other nodes.
+    pub fn new_step(&mut self) {
+        self.ahead = None;
+    }
+
+    /// Interpolates the step's samples from the next one on into the spare
+    /// capacity of every channel: the `due` ones and as many more of the step
+    /// as the reserved room holds (reserving only for the `due` ones, so that
+    /// looking ahead never grows a channel).
+    fn interpolate_ahead(&mut self, t0: f64, t1: f64, due: u64, nodes: &[Row; N_NODES]) {
+        let in_step = self.count_due(t1).max(due) as usize;
+        let room = self
+            .data
+            .iter()
+            .map(|d| d.capacity() - d.len())
+            .min()
+            .unwrap_or(0);
+        let n = in_step.min(room).max(due as usize);
         self.weights.iter_mut().for_each(Vec::clear);
-        while self.due(until) {
-            let ts = self.next_time();
-            let w = lagrange_weights((ts - t0) / (t1 - t0));
+        for k in self.next..self.next + n as u64 {
+            let w = lagrange_weights((self.time_of(k) - t0) / (t1 - t0));
             for (column, wj) in self.weights.iter_mut().zip(w) {
                 column.push(wj);
             }
-            self.times.push(ts);
-            self.next += 1;
-        }
-        let n = self.weights[0].len();
-        if n == 0 {
-            return;
         }
         let [w0, w1, w2, w3, w4] = &self.weights;
         let weights = [&w0[..n], &w1[..n], &w2[..n], &w3[..n], &w4[..n]];
         interpolate_channels(&mut self.data, weights, nodes);
+        self.ahead = Some(Ahead {
+            t0,
+            t1,
+            first: self.next,
+            count: n as u64,
+        });
     }
 
     /// Records the next `rows.len()` samples from their channel values, all
     /// of one step together: channel-major, one pass per channel.
     pub fn push_rows(&mut self, rows: &[Row]) {
+        self.ahead = None;
         for _ in rows {
             self.times.push(self.next_time());
             self.next += 1;
@@ -271,10 +351,11 @@ impl Recorder {
     }
 }
 
-/// Appends to each channel of `data` its samples of one step: sample s of
-/// channel c is Σ_j weights[j][s]·nodes[j][c]. Channel-major, each channel's
-/// samples in one pass over slices; a channel constant over the step (a held
-/// command) is copied.
+/// Writes into the spare capacity of each channel of `data` (reserving it
+/// when needed) its samples of one step, without recording them (the length
+/// stays): sample s of channel c is Σ_j weights[j][s]·nodes[j][c].
+/// Channel-major, each channel's samples in one pass over slices; a channel
+/// constant over the step (a held command) is copied.
 ///
 /// On x86-64 processors with AVX2 the same code runs compiled for it (four
 /// samples per instruction instead of two); both builds do the same IEEE
@@ -322,182 +403,19 @@ fn interpolate_channels_lanes(
     let [w0, w1, w2, w3, w4] = weights;
     for (c, d) in data.iter_mut().enumerate() {
         let v: [f64; N_NODES] = std::array::from_fn(|j| nodes[j][c]);
-        let start = d.len();
+        d.reserve(n);
+        let spare = &mut d.spare_capacity_mut()[..n];
         if v.iter().all(|x| x.to_bits() == v[0].to_bits()) {
-            d.resize(start + n, v[0]);
+            spare.fill(std::mem::MaybeUninit::new(v[0]));
             continue;
         }
-        d.reserve(n);
         let samples = w0.iter().zip(w1).zip(w2).zip(w3).zip(w4);
-        for (out, ((((p0, p1), p2), p3), p4)) in d.spare_capacity_mut().iter_mut().zip(samples) {
+        for (out, ((((p0, p1), p2), p3), p4)) in spare.iter_mut().zip(samples) {
             out.write(p0 * v[0] + p1 * v[1] + p2 * v[2] + p3 * v[3] + p4 * v[4]);
         }
-        // SAFETY: the loop wrote the first n elements of the spare capacity
-        // (reserved above, and every weight slice is n long).
-        unsafe { d.set_len(start + n) };
     }
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// Lagrange weights sum to 1, pick the node at a node, and reproduce a
-    /// polynomial of degree 4 exactly (interpolation through 5 points).
-    #[test]
-    fn weights_reproduce_quartics() {
-        let p = |t: f64| 1.0 - 2.0 * t + 3.0 * t * t - 0.5 * t.powi(3) + 4.0 * t.powi(4);
-        for k in 0..=20 {
-            let theta = k as f64 / 20.0;
-            let w = lagrange_weights(theta);
-            assert!((w.iter().sum::<f64>() - 1.0).abs() < 1e-14);
-            let value: f64 = w.iter().zip(NODES).map(|(w, t)| w * p(t)).sum();
-            assert!((value - p(theta)).abs() < 1e-13, "θ = {theta}");
-        }
-        for (j, &tj) in NODES.iter().enumerate() {
-            let w = lagrange_weights(tj);
-            for (m, wm) in w.iter().enumerate() {
-                assert_eq!(*wm, if m == j { 1.0 } else { 0.0 });
-            }
-        }
-    }
-
-    /// The check passes a smooth curve and fails a corner |θ − 0.6| inside
-    /// the step.
-    #[test]
-    fn interpolation_check_finds_corners() {
-        let check = |f: &dyn Fn(f64) -> f64| {
-            let nodes: [Row; N_NODES] = std::array::from_fn(|j| [f(NODES[j]); N_CHANNELS]);
-            interpolation_holds(&nodes, &[f(CHECK_POINT); N_CHANNELS], 1e-4)
-        };
-        assert!(check(&|t| 100.0 + (3.0 * t).sin()));
-        assert!(!check(&|t| 100.0 + 10.0 * (t - 0.6).abs()));
-        assert!(check(&|_| 0.0), "all zero");
-    }
-
-    #[test]
-    fn counts_and_times() {
-        let mut r = Recorder::new(200.0);
-        assert_eq!(r.count_due(0.0), 1);
-        assert_eq!(r.count_due(0.175), 36);
-        r.push_row(&[0.0; N_CHANNELS]);
-        assert_eq!(r.count_due(0.175), 35);
-        assert_eq!(r.time_of(35), 0.175);
-        assert!(r.due(0.005));
-        assert!(!r.due(0.0049));
-    }
-
-    /// One exact reservation holds every sample up to its time: no growth
-    /// while they are pushed, and a reservation for a time already covered
-    /// changes nothing.
-    #[test]
-    fn exact_reservation_holds_the_samples() {
-        let mut r = Recorder::new(200.0);
-        r.reserve_exact_until(0.175);
-        let capacity = r.times.capacity();
-        assert!(capacity >= 36);
-        assert!(r.data.iter().all(|d| d.capacity() >= 36));
-        for _ in 0..36 {
-            r.push_row(&[1.0; N_CHANNELS]);
-        }
-        r.reserve_exact_until(0.1);
-        assert_eq!(
-            r.times.capacity(),
-            capacity,
-            "no growth, nothing more reserved"
-        );
-        assert_eq!(r.times().len(), 36);
-    }
-
-    /// The AVX2 build of the interpolation check gives the baseline build's
-    /// answer on random rows (a fixed-seed generator), with tolerances
-    /// around each row's own error so that both answers occur.
-    #[test]
-    fn avx2_and_baseline_check_alike() {
-        // xorshift64* (Vigna, "An experimental exploration of Marsaglia's
-        // xorshift generators, scrambled", 2016): uniform in [-1, 1).
-        let mut seed = 0x9e37_79b9_7f4a_7c15_u64;
-        let mut uniform = move || {
-            seed ^= seed >> 12;
-            seed ^= seed << 25;
-            seed ^= seed >> 27;
-            let bits = seed.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11;
-            bits as f64 / (1u64 << 52) as f64 - 1.0
-        };
-        let (mut held, mut failed) = (0, 0);
-        for case in 0..400 {
-            let magnitude = 10f64.powi(case % 13 - 6);
-            let nodes: [Row; N_NODES] =
-                std::array::from_fn(|_| std::array::from_fn(|_| magnitude * uniform()));
-            // The exact row near the interpolant: small random deviations.
-            let w = lagrange_weights(CHECK_POINT);
-            let exact: Row = std::array::from_fn(|c| {
-                let interpolated: f64 = (0..N_NODES).map(|j| w[j] * nodes[j][c]).sum();
-                interpolated + 1e-4 * magnitude * uniform().powi(7)
-            });
-            let tolerance = 10f64.powi(-(case % 9) - 3);
-            let baseline = interpolation_holds_baseline(&nodes, &exact, tolerance);
-            if baseline {
-                held += 1;
-            } else {
-                failed += 1;
-            }
-            assert_eq!(interpolation_holds(&nodes, &exact, tolerance), baseline);
-            #[cfg(target_arch = "x86_64")]
-            if std::arch::is_x86_feature_detected!("avx2") {
-                // SAFETY: the processor has AVX2 (checked just above).
-                let avx2 = unsafe { interpolation_holds_avx2(&nodes, &exact, tolerance) };
-                assert_eq!(avx2, baseline, "case {case}");
-            }
-        }
-        assert!(
-            held > 20 && failed > 20,
-            "both answers: {held} held, {failed} failed"
-        );
-    }
-
-    /// The AVX2 build of the interpolation gives the baseline build's samples
-    /// bit for bit, and both match the weighted sum written out (the same
-    /// operations in the same order, no fused multiply-add).
-    #[test]
-    fn avx2_and_baseline_interpolate_alike() {
-        // Node values of every kind: smooth, constant, signed, tiny and large.
-        let nodes: [Row; N_NODES] = std::array::from_fn(|j| {
-            std::array::from_fn(|c| match c % 4 {
-                0 => (c as f64 * 0.37 + j as f64 * 1.1).sin() * 1e3,
-                1 => 42.0,
-                2 => -(j as f64 + 1.0) * 1e-9 * c as f64,
-                _ => 1e12 / (j as f64 + c as f64 + 1.0),
-            })
-        });
-        let thetas: Vec<f64> = (1..=13).map(|k| k as f64 / 13.0).collect();
-        let columns: [Vec<f64>; N_NODES] =
-            std::array::from_fn(|j| thetas.iter().map(|&t| lagrange_weights(t)[j]).collect());
-        let weights: [&[f64]; N_NODES] = std::array::from_fn(|j| columns[j].as_slice());
-        let mut baseline = vec![Vec::new(); N_CHANNELS];
-        interpolate_channels_baseline(&mut baseline, weights, &nodes);
-        for (c, samples) in baseline.iter().enumerate() {
-            for (s, value) in samples.iter().enumerate() {
-                let w: [f64; N_NODES] = std::array::from_fn(|j| columns[j][s]);
-                let sum = w[0] * nodes[0][c]
-                    + w[1] * nodes[1][c]
-                    + w[2] * nodes[2][c]
-                    + w[3] * nodes[3][c]
-                    + w[4] * nodes[4][c];
-                let expected = if c % 4 == 1 { 42.0 } else { sum };
-                assert_eq!(
-                    value.to_bits(),
-                    expected.to_bits(),
-                    "channel {c} sample {s}"
-                );
-            }
-        }
-        #[cfg(target_arch = "x86_64")]
-        if std::arch::is_x86_feature_detected!("avx2") {
-            let mut avx2 = vec![Vec::new(); N_CHANNELS];
-            // SAFETY: the processor has AVX2 (checked just above).
-            unsafe { interpolate_channels_avx2(&mut avx2, weights, &nodes) };
-            assert_eq!(avx2, baseline, "bit for bit (no NaN in these samples)");
-        }
-    }
-}
+#[path = "recorder_tests.rs"]
+mod tests;
