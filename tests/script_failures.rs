@@ -1,13 +1,15 @@
 //! Script runs that go wrong, through the real binary: errors after the
 //! simulation keep the data (file written, status `failed`, exit code 1,
-//! script position in the message); input errors keep their kind to exit
-//! code 2, manoeuvre parameters are checked before anything runs.
+//! script position in the message); input errors (syntax, wrong argument
+//! types, unknown `--set` keys, `eval`) keep their kind to exit code 2 with
+//! the file, line and column; a spent operation budget and a diverging run
+//! exit 1; manoeuvre parameters are checked before anything runs.
 
 mod common;
 
 use std::path::Path;
 
-use common::{TempDir, repo_path};
+use common::{TempDir, repo_path, with_vehicle};
 use yawdyn::results::{RunRecord, RunStatus, read_hdf5};
 
 /// Runs `text` as `name` in `dir` with `args`, with the demo crossover
@@ -258,4 +260,148 @@ fn phases_cannot_start_inside_a_controller_or_evaluate() {
         r.status
     );
     assert!(Path::new(&dir.join("r.h5")).exists());
+}
+
+/// Runs `text` as `name` in `dir`, with the demo crossover copied into
+/// `dir/vehicles/` (a script reads only vehicle files inside its folder).
+fn bad_script(dir: &TempDir, name: &str, text: &str) -> common::Output {
+    dir.add_demo_vehicle();
+    let path = dir.write(name, text);
+    dir.yawdyn(["run", path.to_str().unwrap(), "--quiet"])
+}
+
+#[test]
+fn syntax_error_reports_file_line_column() {
+    let dir = TempDir::new();
+    let out = bad_script(
+        &dir,
+        "broken.rhai",
+        &with_vehicle("start_speed(10.0);\nlet x = ;\n"),
+    );
+    out.expect_code(2);
+    assert!(out.stderr.contains("broken.rhai:3:9"), "{}", out.stderr);
+    assert!(out.stderr.contains("syntax error"), "{}", out.stderr);
+}
+
+#[test]
+fn runtime_error_reports_file_line_column() {
+    let dir = TempDir::new();
+    let out = bad_script(
+        &dir,
+        "wrong.rhai",
+        &with_vehicle("start_speed(10.0);\nrun_for(0.5);\n  run_for(\"long\");\n"),
+    );
+    out.expect_code(2);
+    assert!(out.stderr.contains("wrong.rhai:4:3"), "{}", out.stderr);
+    assert!(
+        out.stderr.contains("duration must be a number"),
+        "{}",
+        out.stderr
+    );
+    // An error inside the evaluation function comes after the simulation:
+    // the run is failed (exit 1), its file is written, and the message
+    // points into the function.
+    let out = bad_script(
+        &dir,
+        "eval.rhai",
+        &with_vehicle(
+            "run_for(0.1);\nfn evaluate(ch) {\n    metric(\"m\", ch.no_such_channel[0], \"s\");\n}\n",
+        ),
+    );
+    out.expect_code(1);
+    assert!(out.stderr.contains("eval.rhai:4:"), "{}", out.stderr);
+    let r = read_hdf5(&dir.join("results/eval.h5")).unwrap();
+    let RunStatus::Failed { message, .. } = &r.status else {
+        panic!("{:?}", r.status);
+    };
+    assert!(message.contains("eval.rhai:4:"), "{message}");
+}
+
+#[test]
+fn endless_loop_is_stopped_by_the_operation_limit() {
+    let dir = TempDir::new();
+    let out = bad_script(&dir, "forever.rhai", "let n = 0;\nloop { n += 1; }\n");
+    // A spent budget is a failed run (exit 1); nothing was simulated, no file.
+    out.expect_code(1);
+    assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
+    assert!(out.stderr.contains("forever.rhai:2:"), "{}", out.stderr);
+    // Endless loop inside a per-tick controller at its first tick: the run
+    // stops before its first sample (no file), at the phase call.
+    let out = bad_script(
+        &dir,
+        "forever_ctl.rhai",
+        &with_vehicle("start_speed(10.0);\ncontroller(|s| { loop { } });\nrun_for(1.0);\n"),
+    );
+    out.expect_code(1);
+    assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
+    assert!(
+        out.stderr.contains("forever_ctl.rhai:4:1"),
+        "{}",
+        out.stderr
+    );
+}
+
+#[test]
+fn eval_is_disabled() {
+    let dir = TempDir::new();
+    let out = bad_script(&dir, "ev.rhai", "eval(\"1 + 1\");\n");
+    out.expect_code(2);
+}
+
+#[test]
+fn unknown_set_key_lists_the_closest_names() {
+    let dir = TempDir::new();
+    let script = repo_path("scripts/step_steer.rhai");
+    let out = dir.yawdyn([
+        "run",
+        script.to_str().unwrap(),
+        "--quiet",
+        "--set",
+        "drive.frnt_share=0.3",
+    ]);
+    out.expect_code(2);
+    assert!(out.stderr.contains("drive.frnt_share"), "{}", out.stderr);
+    assert!(out.stderr.contains("front_share"), "{}", out.stderr);
+}
+
+/// A relaxation length of 1 mm with the fixed-step RK4 solver makes the slip
+/// states unstable once V·h/σ passes RK4's stability limit (≈ 2.8): the run
+/// must fail, say so, exit 1, and keep the channels up to the failure.
+#[test]
+fn diverging_run_exits_1_and_keeps_the_channels() {
+    let dir = TempDir::new();
+    let path = dir.write_with_vehicle(
+        "diverge.rhai",
+        r#"set("tyre.front.relaxation_length_lateral", 0.01);
+set("tyre.front.relaxation_length_longitudinal", 0.01);
+solver("rk4");
+fixed_step(0.005);
+start_speed(2.0);
+drive(1.0);
+run_for(5.0);
+"#,
+    );
+    let out = dir.yawdyn(["run", path.to_str().unwrap(), "--out", "d.h5"]);
+    out.expect_code(1);
+    assert!(out.stdout.contains("FAILED"), "{}", out.stdout);
+    let r = read_hdf5(&dir.join("d.h5")).unwrap();
+    let RunStatus::Failed { time_s, message } = &r.status else {
+        panic!("status {:?}", r.status);
+    };
+    assert!(message.contains("non-finite"), "{message}");
+    assert!(*time_s > 0.1 && *time_s < 5.0, "failed at {time_s}");
+    assert!(r.samples() > 10);
+    assert!(*r.time.last().unwrap() <= *time_s);
+    for c in &r.channels {
+        assert_eq!(c.data.len(), r.samples());
+        assert!(
+            c.data.iter().all(|v| v.is_finite()),
+            "{} has non-finite samples",
+            c.name
+        );
+    }
+    let show = dir.yawdyn(["show", "d.h5", "--json"]);
+    show.expect_code(0);
+    let json: serde_json::Value = serde_json::from_str(&show.stdout).unwrap();
+    assert_eq!(json["status"], "failed");
 }

@@ -379,163 +379,6 @@ fn progress_reports_increasing_time() {
     assert!((seen.last().unwrap().0 - r.duration_s()).abs() < 1e-9);
 }
 
-/// Runs `text` as `name` in `dir`, with the demo crossover copied into
-/// `dir/vehicles/` (a script reads only vehicle files inside its folder).
-fn bad_script(dir: &TempDir, name: &str, text: &str) -> common::Output {
-    let vehicle = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
-    dir.write("vehicles/hybrid_crossover.toml", &vehicle.unwrap());
-    let path = dir.write(name, text);
-    dir.yawdyn(["run", path.to_str().unwrap(), "--quiet"])
-}
-
-/// Writes `with_vehicle(text)` as `name` in `dir` with the vehicle beside it.
-fn write_with_vehicle(dir: &TempDir, name: &str, text: &str) -> std::path::PathBuf {
-    let vehicle = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
-    dir.write("vehicles/hybrid_crossover.toml", &vehicle.unwrap());
-    dir.write(name, &with_vehicle(text))
-}
-
-fn with_vehicle(text: &str) -> String {
-    format!("vehicle(\"vehicles/hybrid_crossover.toml\");\n{text}")
-}
-
-#[test]
-fn syntax_error_reports_file_line_column() {
-    let dir = TempDir::new();
-    let out = bad_script(
-        &dir,
-        "broken.rhai",
-        &with_vehicle("start_speed(10.0);\nlet x = ;\n"),
-    );
-    out.expect_code(2);
-    assert!(out.stderr.contains("broken.rhai:3:9"), "{}", out.stderr);
-    assert!(out.stderr.contains("syntax error"), "{}", out.stderr);
-}
-
-#[test]
-fn runtime_error_reports_file_line_column() {
-    let dir = TempDir::new();
-    let out = bad_script(
-        &dir,
-        "wrong.rhai",
-        &with_vehicle("start_speed(10.0);\nrun_for(0.5);\n  run_for(\"long\");\n"),
-    );
-    out.expect_code(2);
-    assert!(out.stderr.contains("wrong.rhai:4:3"), "{}", out.stderr);
-    assert!(
-        out.stderr.contains("duration must be a number"),
-        "{}",
-        out.stderr
-    );
-    // An error inside the evaluation function comes after the simulation:
-    // the run is failed (exit 1), its file is written, and the message
-    // points into the function.
-    let out = bad_script(
-        &dir,
-        "eval.rhai",
-        &with_vehicle(
-            "run_for(0.1);\nfn evaluate(ch) {\n    metric(\"m\", ch.no_such_channel[0], \"s\");\n}\n",
-        ),
-    );
-    out.expect_code(1);
-    assert!(out.stderr.contains("eval.rhai:4:"), "{}", out.stderr);
-    let r = read_hdf5(&dir.join("results/eval.h5")).unwrap();
-    let RunStatus::Failed { message, .. } = &r.status else {
-        panic!("{:?}", r.status);
-    };
-    assert!(message.contains("eval.rhai:4:"), "{message}");
-}
-
-#[test]
-fn endless_loop_is_stopped_by_the_operation_limit() {
-    let dir = TempDir::new();
-    let out = bad_script(&dir, "forever.rhai", "let n = 0;\nloop { n += 1; }\n");
-    // A spent budget is a failed run (exit 1); nothing was simulated, no file.
-    out.expect_code(1);
-    assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
-    assert!(out.stderr.contains("forever.rhai:2:"), "{}", out.stderr);
-    // Endless loop inside a per-tick controller at its first tick: the run
-    // stops before its first sample (no file), at the phase call.
-    let out = bad_script(
-        &dir,
-        "forever_ctl.rhai",
-        &with_vehicle("start_speed(10.0);\ncontroller(|s| { loop { } });\nrun_for(1.0);\n"),
-    );
-    out.expect_code(1);
-    assert!(out.stderr.contains("operation budget"), "{}", out.stderr);
-    assert!(
-        out.stderr.contains("forever_ctl.rhai:4:1"),
-        "{}",
-        out.stderr
-    );
-}
-
-#[test]
-fn eval_is_disabled() {
-    let dir = TempDir::new();
-    let out = bad_script(&dir, "ev.rhai", "eval(\"1 + 1\");\n");
-    out.expect_code(2);
-}
-
-#[test]
-fn unknown_set_key_lists_the_closest_names() {
-    let dir = TempDir::new();
-    let script = repo_path("scripts/step_steer.rhai");
-    let out = dir.yawdyn([
-        "run",
-        script.to_str().unwrap(),
-        "--quiet",
-        "--set",
-        "drive.frnt_share=0.3",
-    ]);
-    out.expect_code(2);
-    assert!(out.stderr.contains("drive.frnt_share"), "{}", out.stderr);
-    assert!(out.stderr.contains("front_share"), "{}", out.stderr);
-}
-
-/// A relaxation length of 1 mm with the fixed-step RK4 solver makes the slip
-/// states unstable once V·h/σ passes RK4's stability limit (≈ 2.8): the run
-/// must fail, say so, exit 1, and keep the channels up to the failure.
-#[test]
-fn diverging_run_exits_1_and_keeps_the_channels() {
-    let dir = TempDir::new();
-    let path = write_with_vehicle(
-        &dir,
-        "diverge.rhai",
-        r#"set("tyre.front.relaxation_length_lateral", 0.01);
-set("tyre.front.relaxation_length_longitudinal", 0.01);
-solver("rk4");
-fixed_step(0.005);
-start_speed(2.0);
-drive(1.0);
-run_for(5.0);
-"#,
-    );
-    let out = dir.yawdyn(["run", path.to_str().unwrap(), "--out", "d.h5"]);
-    out.expect_code(1);
-    assert!(out.stdout.contains("FAILED"), "{}", out.stdout);
-    let r = read_hdf5(&dir.join("d.h5")).unwrap();
-    let RunStatus::Failed { time_s, message } = &r.status else {
-        panic!("status {:?}", r.status);
-    };
-    assert!(message.contains("non-finite"), "{message}");
-    assert!(*time_s > 0.1 && *time_s < 5.0, "failed at {time_s}");
-    assert!(r.samples() > 10);
-    assert!(*r.time.last().unwrap() <= *time_s);
-    for c in &r.channels {
-        assert_eq!(c.data.len(), r.samples());
-        assert!(
-            c.data.iter().all(|v| v.is_finite()),
-            "{} has non-finite samples",
-            c.name
-        );
-    }
-    let show = dir.yawdyn(["show", "d.h5", "--json"]);
-    show.expect_code(0);
-    let json: serde_json::Value = serde_json::from_str(&show.stdout).unwrap();
-    assert_eq!(json["status"], "failed");
-}
-
 #[test]
 fn show_json_has_status_and_metrics_and_csv_has_units() {
     let dir = TempDir::new();
@@ -592,8 +435,7 @@ fn run_summary_lists_criteria_and_metrics() {
 #[test]
 fn failed_criterion_exits_1() {
     let dir = TempDir::new();
-    let path = write_with_vehicle(
-        &dir,
+    let path = dir.write_with_vehicle(
         "crit.rhai",
         "start_speed(10.0);\nrun_for(0.2);\nfn evaluate(ch) {\n    criterion(\"speed\", max(ch.speed), 20.0, ());\n}\n",
     );
@@ -659,8 +501,8 @@ fn additive_solver_runs_from_a_script_and_agrees_with_the_default() {
             "{solver}sample_rate(200);\nstart_speed(22.0);\nhold_speed(22.0);\nrun_for(0.5);\nsteer(0.8);\nrun_for(3.0);\n"
         )
     };
-    let ark = write_with_vehicle(&dir, "ark.rhai", &body("solver(\"ark436\");\n"));
-    let default = write_with_vehicle(&dir, "default.rhai", &body(""));
+    let ark = dir.write_with_vehicle("ark.rhai", &body("solver(\"ark436\");\n"));
+    let default = dir.write_with_vehicle("default.rhai", &body(""));
     dir.yawdyn(["run", ark.to_str().unwrap(), "--out", "a.h5"])
         .expect_code(0);
     dir.yawdyn(["run", default.to_str().unwrap(), "--out", "d.h5"])

@@ -21,6 +21,11 @@ pub const LINEARISE: [&str; 9] = [
     "tyre.rear.rolling_resistance=0.0",
 ];
 
+/// `text` after a line that loads the demo crossover from `vehicles/`.
+pub fn with_vehicle(text: &str) -> String {
+    format!("vehicle(\"vehicles/hybrid_crossover.toml\");\n{text}")
+}
+
 /// The repository root (where Cargo.toml is).
 pub fn repo_root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -87,6 +92,20 @@ impl TempDir {
         }
         std::fs::write(&path, text).expect("write test file");
         path
+    }
+
+    /// Copies the demo crossover into `vehicles/` (a script reads only
+    /// vehicle files inside its folder).
+    pub fn add_demo_vehicle(&self) {
+        let vehicle = std::fs::read_to_string(repo_path("scripts/vehicles/hybrid_crossover.toml"));
+        self.write("vehicles/hybrid_crossover.toml", &vehicle.unwrap());
+    }
+
+    /// Writes `with_vehicle(text)` as `name` with the demo crossover beside
+    /// it, and returns its path.
+    pub fn write_with_vehicle(&self, name: &str, text: &str) -> PathBuf {
+        self.add_demo_vehicle();
+        self.write(name, &with_vehicle(text))
     }
 
     /// Runs `yawdyn ARGS...` with this directory as the working directory.
