@@ -270,11 +270,11 @@ impl Recorder {
         if !waiting {
             self.interpolate_ahead(t0, t1, due, nodes);
         }
-        let ahead = self.ahead.as_mut().expect("interpolated just above");
         for _ in 0..due {
-            self.times.push(self.next as f64 / self.rate);
+            self.times.push(self.next_time());
             self.next += 1;
         }
+        let ahead = self.ahead.as_mut().expect("interpolated just above");
         ahead.first += due;
         ahead.count -= due;
         for d in &mut self.data {
