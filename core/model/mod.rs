@@ -107,7 +107,7 @@ pub struct WheelOutput {
 }
 
 /// Everything one evaluation of the model gives.
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, Default)]
 pub struct Evaluation {
     /// State derivatives.
     pub derivative: State,
@@ -173,12 +173,30 @@ pub fn evaluate_prepared(
     x: &State,
     c: &Commands,
 ) -> Evaluation {
+    let mut e = Evaluation::default();
+    evaluate_prepared_into(v, p, steer, x, c, &mut e);
+    e
+}
+
+/// [`evaluate_prepared`] written into `out`, every field: the simulation's
+/// inner loop evaluates in place instead of building an evaluation and
+/// copying it.
+#[inline]
+pub fn evaluate_prepared_into(
+    v: &Vehicle,
+    p: &Prepared,
+    steer: &SteerAngles,
+    x: &State,
+    c: &Commands,
+    out: &mut Evaluation,
+) {
     debug_assert!(steer.is_for(c.steer_wheel_angle));
     let aero = aero_forces(&v.aero, x[VX]);
     let fz = wheel_loads(&v.chassis, &p.chassis, &v.aero, &aero, x);
     let (torques, power) = powertrain(v, x, c);
     let patches = contact_patches(&p.tyres, &p.wheels, steer, &fz, x);
-    let mut d = State::zeros();
+    let d = &mut out.derivative;
+    d.fill(0.0);
     let body = chassis_equations(
         &v.chassis,
         &p.chassis,
@@ -186,15 +204,14 @@ pub fn evaluate_prepared(
         &patches,
         aero.drag_force,
         x,
-        &mut d,
+        d,
     );
-    wheel_equations(&p.wheels, &fz, &patches, &torques, x, &mut d);
-    energy_equations(&power, &mut d);
-    Evaluation {
-        derivative: d,
-        ax: body.ax,
-        ay: body.ay,
-        wheels: std::array::from_fn(|i| WheelOutput {
+    wheel_equations(&p.wheels, &fz, &patches, &torques, x, d);
+    energy_equations(&power, d);
+    out.ax = body.ax;
+    out.ay = body.ay;
+    for (i, w) in out.wheels.iter_mut().enumerate() {
+        *w = WheelOutput {
             fz: fz[i],
             fx: patches.fx[i],
             fy: patches.fy[i],
@@ -204,13 +221,13 @@ pub fn evaluate_prepared(
             drive_torque: torques.drive[i],
             brake_torque: torques.brake[i],
             contact_speed: patches.vcx[i],
-        }),
-        drag_force: aero.drag_force,
-        downforce: aero.downforce,
-        axle_drive_torque: torques.axle_drive,
-        axle_available_torque: torques.axle_available,
-        powertrain: power,
+        };
     }
+    out.drag_force = aero.drag_force;
+    out.downforce = aero.downforce;
+    out.axle_drive_torque = torques.axle_drive;
+    out.axle_available_torque = torques.axle_available;
+    out.powertrain = power;
 }
 
 /// A state running straight at `speed` (m/s): wheels rolling freely, body

@@ -105,3 +105,61 @@ fn available_torque_is_capped_by_power() {
     let high = at(w);
     assert!((high * w - u.efficiency * u.max_power).abs() < 1e-6);
 }
+
+/// Evaluating in place writes every field: into an evaluation whose every
+/// number is NaN and whose unit kinds are unset it gives
+/// `evaluate_prepared`'s result (compared through `Debug`, which prints every
+/// field, NaN included, with the shortest representation that reads back
+/// exactly). A field added to `Evaluation` must be added here to compile.
+#[test]
+fn evaluating_in_place_writes_every_field() {
+    let v = crossover();
+    let p = Prepared::new(&v);
+    let mut c = Commands::neutral(&v);
+    c.steer_wheel_angle = 0.3;
+    c.drive_request = 0.6;
+    let mut x = straight_running(&v, 25.0);
+    x[VY] = 0.4;
+    x[YAW_RATE] = 0.2;
+    let steer = SteerAngles::new(&v, c.steer_wheel_angle);
+    let expected = evaluate_prepared(&v, &p, &steer, &x, &c);
+    assert!(expected.powertrain.unit_kind.iter().all(Option::is_some));
+    let nan = f64::NAN;
+    let pair = [nan; 2];
+    let wheel = WheelOutput {
+        fz: nan,
+        fx: nan,
+        fy: nan,
+        slip_ratio: nan,
+        tan_slip_angle: nan,
+        steer_angle: nan,
+        drive_torque: nan,
+        brake_torque: nan,
+        contact_speed: nan,
+    };
+    let mut out = Evaluation {
+        derivative: State::from_element(nan),
+        ax: nan,
+        ay: nan,
+        wheels: [wheel; 4],
+        drag_force: nan,
+        downforce: nan,
+        axle_drive_torque: pair,
+        axle_available_torque: pair,
+        powertrain: PowertrainOutput {
+            unit_torque: pair,
+            unit_speed: pair,
+            electrical_power: pair,
+            fuel_mass_flow: pair,
+            regen_brake_torque: pair,
+            friction_brake_torque: pair,
+            available_regen_torque: pair,
+            state_of_charge: nan,
+            store_energy_rate: nan,
+            unit_kind: [None; 2],
+            braking_front_share: nan,
+        },
+    };
+    evaluate_prepared_into(&v, &p, &steer, &x, &c, &mut out);
+    assert_eq!(format!("{out:?}"), format!("{expected:?}"));
+}

@@ -14,7 +14,7 @@ use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
 use super::plant::{Captured, Model, Plant};
 use super::recorder::{CHECK_POINT, N_NODES, NODES, interpolation_holds};
 use super::{InputSource, MAX_STEPS_PER_SEGMENT, SimError, Simulation, same_time};
-use crate::model::{N_STATES, STATE_NAMES, State};
+use crate::model::{N_STATES, STATE_NAMES, State, derive};
 
 /// Largest step, s. Dopri5's stages sample the inputs at fractions 0, 0.2,
 /// 0.3, 0.8, 0.89 and 1 of a step, so an input feature shorter than about
@@ -159,10 +159,13 @@ pub(super) struct Continuous {
     nodes_end: Option<f64>,
     /// Channel values of the samples of one step (scratch, reused).
     batch: Vec<Row>,
+    /// Where an output evaluation is made in place (scratch, reused).
+    scratch: Box<Outputs>,
 }
 
 impl Continuous {
-    pub fn new(time: f64, state: State, rtol: f64, atol: f64, ark: bool) -> Self {
+    /// `scratch` may hold any outputs (it is overwritten before every use).
+    pub fn new(time: f64, state: State, rtol: f64, atol: f64, ark: bool, scratch: Outputs) -> Self {
         use control::*;
         let stepper = if ark {
             let controller =
@@ -181,6 +184,7 @@ impl Continuous {
             nodes: Box::new([[0.0; N_CHANNELS]; N_NODES]),
             nodes_end: None,
             batch: Vec::new(),
+            scratch: Box::new(scratch),
         }
     }
 
@@ -348,17 +352,20 @@ impl Simulation {
         let first = self.recorder.next_index();
         for k in first..first + self.recorder.count_due(limit) {
             let ts = self.recorder.time_of(k);
-            // At the step's end (within rounding): the solver's own evaluation.
-            let at_end = run
-                .at_end
-                .filter(|_| (ts - t1).abs() <= 1e-9 / self.sample_rate);
-            let captured = at_end.unwrap_or_else(|| {
-                self.output_evaluations += 1;
-                Captured::evaluate(model, inputs, ts, &run.stepper.dense(ts))
-            });
             batch.push([0.0; N_CHANNELS]);
             let row = batch.last_mut().expect("just pushed");
-            table.fill(&self.outputs_of(ts, &captured), row);
+            // At the step's end (within rounding): the solver's own evaluation.
+            match run
+                .at_end
+                .filter(|_| (ts - t1).abs() <= 1e-9 / self.sample_rate)
+            {
+                Some(end) => table.fill(&self.outputs_of(ts, &end), row),
+                None => {
+                    self.output_evaluations += 1;
+                    let x = run.stepper.dense(ts);
+                    self.row_at(model, inputs, ts, &x, &mut run.scratch, row);
+                }
+            }
         }
         self.recorder.push_rows(&batch);
         run.batch = batch;
@@ -410,18 +417,41 @@ impl Simulation {
         }
         table.fill(&self.outputs_of(t1, &end), &mut run.nodes[N_NODES - 1]);
         run.nodes_end = Some(t1);
-        for (node, &t) in run.nodes[1..N_NODES - 1].iter_mut().zip(&times[1..]) {
-            let c = Captured::evaluate(model, inputs, t, &run.stepper.dense(t));
-            table.fill(&self.outputs_of(t, &c), node);
+        for (j, &t) in times.iter().enumerate().take(N_NODES - 1).skip(1) {
+            let x = run.stepper.dense(t);
+            self.row_at(model, inputs, t, &x, &mut run.scratch, &mut run.nodes[j]);
         }
         let t = t0 + CHECK_POINT * h;
-        let c = Captured::evaluate(model, inputs, t, &run.stepper.dense(t));
-        let check = table.row(&self.outputs_of(t, &c));
+        let mut check = [0.0; N_CHANNELS];
+        let x = run.stepper.dense(t);
+        self.row_at(model, inputs, t, &x, &mut run.scratch, &mut check);
         self.output_evaluations += (N_NODES - 1) as u64;
         if !interpolation_holds(&run.nodes, &check, INTERPOLATION_CHECK) {
             return StepOutput::Direct;
         }
         StepOutput::Interpolated
+    }
+
+    /// Writes into `row` the channel values at (`t`, `state`) with the
+    /// inputs' commands: the model evaluated in place in `scratch`, so that
+    /// no evaluation is copied (the same values as [`Captured::evaluate`]
+    /// followed by [`Simulation::outputs_of`], bit for bit).
+    #[inline]
+    pub(super) fn row_at(
+        &self,
+        model: Model,
+        inputs: &dyn InputSource,
+        t: f64,
+        state: &State,
+        scratch: &mut Outputs,
+        row: &mut Row,
+    ) {
+        scratch.time = t;
+        scratch.state = *state;
+        scratch.commands = inputs.commands(t);
+        model.evaluate_into(&scratch.state, &scratch.commands, &mut scratch.evaluation);
+        scratch.derived = derive(&scratch.state, &scratch.evaluation, &self.reference);
+        ChannelTable::get().fill(scratch, row);
     }
 
     /// The outputs of an evaluation, sampled at time `t`.

@@ -305,12 +305,16 @@ impl Simulation {
         }
         let ark = settings.kind == SolverKind::Ark436;
         let continuous = (settings.kind == SolverKind::Dopri5 || ark).then(|| {
+            // Any outputs do for the scratch: the initial state coasting.
+            let neutral = Commands::neutral(&vehicle);
+            let scratch = Outputs::compute(&vehicle, 0.0, &initial, &neutral, &Pose::of(&initial));
             Box::new(Continuous::new(
                 0.0,
                 initial,
                 settings.rtol,
                 settings.atol,
                 ark,
+                scratch,
             ))
         });
         Ok(Self {

@@ -9,7 +9,7 @@ use ode_solvers::dop_shared::System;
 use super::InputSource;
 use super::ark::SplitSystem;
 use crate::model::{Commands, Evaluation, N_STATES, Prepared, State, SteerAngles};
-use crate::model::{WheelJacobian, evaluate_prepared, wheel_jacobian};
+use crate::model::{WheelJacobian, evaluate_prepared, evaluate_prepared_into, wheel_jacobian};
 use crate::params::Vehicle;
 
 /// The model of one simulation: the vehicle, its prepared constants and the
@@ -26,12 +26,26 @@ impl Model<'_> {
     /// The model evaluated at `state` with `commands`.
     #[inline]
     pub fn evaluate(&self, state: &State, commands: &Commands) -> Evaluation {
+        let steer = self.steer_for(commands);
+        evaluate_prepared(self.vehicle, self.prepared, &steer, state, commands)
+    }
+
+    /// [`Model::evaluate`] written into `out`.
+    #[inline]
+    pub fn evaluate_into(&self, state: &State, commands: &Commands, out: &mut Evaluation) {
+        let steer = self.steer_for(commands);
+        evaluate_prepared_into(self.vehicle, self.prepared, &steer, state, commands, out);
+    }
+
+    /// The steering angles of `commands`, computed when the command changes.
+    #[inline]
+    fn steer_for(&self, commands: &Commands) -> SteerAngles {
         let mut steer = self.steer.get();
         if !steer.is_for(commands.steer_wheel_angle) {
             steer = SteerAngles::new(self.vehicle, commands.steer_wheel_angle);
             self.steer.set(steer);
         }
-        evaluate_prepared(self.vehicle, self.prepared, &steer, state, commands)
+        steer
     }
 }
 
@@ -116,7 +130,7 @@ impl System<f64, State> for Plant<'_> {
                 c.t = t;
                 c.state = *x;
                 c.commands = self.inputs.commands(t);
-                c.evaluation = self.model.evaluate(x, &c.commands);
+                self.model.evaluate_into(x, &c.commands, &mut c.evaluation);
                 c
             }
             None => last.insert(Captured::evaluate(self.model, self.inputs, t, x)),

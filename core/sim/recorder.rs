@@ -3,6 +3,8 @@
 //! results record without copying), and the interpolation of a step's samples
 //! from a few exact evaluations.
 
+use std::mem::MaybeUninit;
+
 use super::channels::{ChannelTable, N_CHANNELS, Outputs, Row};
 
 /// Interpolation nodes within a step, as fractions θ of the step: the
@@ -130,8 +132,9 @@ pub(super) struct Recorder {
     times: Vec<f64>,
     /// One vector per channel, in table order.
     data: Vec<Vec<f64>>,
-    /// Lagrange weights of the samples of one step, node-major (scratch).
-    weights: [Vec<f64>; N_NODES],
+    /// Lagrange weights of the samples of one step in blocks of
+    /// [`LANES`] samples, zero past the last sample (scratch).
+    weights: Vec<WeightBlock>,
     /// Samples interpolated ahead: the step's samples past those recorded,
     /// already written into every channel's spare capacity (see
     /// [`Recorder::push_interpolated`]).
@@ -163,7 +166,7 @@ impl Recorder {
             next: 0,
             times: Vec::new(),
             data: (0..N_CHANNELS).map(|_| Vec::new()).collect(),
-            weights: Default::default(),
+            weights: Vec::new(),
             ahead: None,
         }
     }
@@ -297,29 +300,42 @@ impl Recorder {
     /// looking ahead never grows a channel).
     fn interpolate_ahead(&mut self, t0: f64, t1: f64, due: u64, nodes: &[Row; N_NODES]) {
         let in_step = self.count_due(t1).max(due) as usize;
-        let room = self
-            .data
-            .iter()
-            .map(|d| d.capacity() - d.len())
-            .min()
-            .unwrap_or(0);
+        let room = self.room();
         let n = in_step.min(room).max(due as usize);
-        self.weights.iter_mut().for_each(Vec::clear);
-        for k in self.next..self.next + n as u64 {
+        // Room for the due samples (the look-ahead takes only what is there).
+        let room = if room < n {
+            for d in &mut self.data {
+                d.reserve(n);
+            }
+            self.room()
+        } else {
+            room
+        };
+        self.weights.clear();
+        self.weights
+            .resize(n.div_ceil(LANES), [[0.0; LANES]; N_NODES]);
+        for (s, k) in (self.next..self.next + n as u64).enumerate() {
             let w = lagrange_weights((self.time_of(k) - t0) / (t1 - t0));
-            for (column, wj) in self.weights.iter_mut().zip(w) {
-                column.push(wj);
+            for (j, wj) in w.into_iter().enumerate() {
+                self.weights[s / LANES][j][s % LANES] = wj;
             }
         }
-        let [w0, w1, w2, w3, w4] = &self.weights;
-        let weights = [&w0[..n], &w1[..n], &w2[..n], &w3[..n], &w4[..n]];
-        interpolate_channels(&mut self.data, weights, nodes);
+        interpolate_channels(&mut self.data, &self.weights, n, room, nodes);
         self.ahead = Some(Ahead {
             t0,
             t1,
             first: self.next,
             count: n as u64,
         });
+    }
+
+    /// Spare capacity of the channel with the least, in samples.
+    fn room(&self) -> usize {
+        self.data
+            .iter()
+            .map(|d| d.capacity() - d.len())
+            .min()
+            .unwrap_or(0)
     }
 
     /// Records the next `rows.len()` samples from their channel values, all
@@ -351,26 +367,45 @@ impl Recorder {
     }
 }
 
-/// Writes into the spare capacity of each channel of `data` (reserving it
-/// when needed) its samples of one step, without recording them (the length
-/// stays): sample s of channel c is Σ_j weights[j][s]·nodes[j][c].
-/// Channel-major, each channel's samples in one pass over slices; a channel
-/// constant over the step (a held command) is copied.
+/// Samples per block of interpolation weights: the width of an AVX2 vector
+/// of `f64`.
+pub(super) const LANES: usize = 4;
+
+/// Lagrange weights of [`LANES`] consecutive samples, node-major:
+/// `block[j][l]` is the weight of node j for sample l of the block.
+pub(super) type WeightBlock = [[f64; LANES]; N_NODES];
+
+/// Writes into the spare capacity of each channel of `data` (at least
+/// `room` ≥ `n` elements in each) its `n` samples of one step, without
+/// recording them (the length stays): sample s of channel c is Σ_j w_j(s)·nodes[j][c] with the
+/// weights of sample s in `weights[s / LANES]`, lane s % LANES. Channel-major,
+/// one pass per channel, a block of samples per vector operation; where the
+/// reserved room holds the whole last block, the block is written whole
+/// (values past the `n`th are written but not recorded), else its samples one
+/// by one. A channel constant over the step (a held command) is copied.
 ///
 /// On x86-64 processors with AVX2 the same code runs compiled for it (four
 /// samples per instruction instead of two); both builds do the same IEEE
 /// operations in the same order (no fused multiply-add), so the samples are
 /// bit for bit the same (test `avx2_and_baseline_interpolate_alike`).
-fn interpolate_channels(data: &mut [Vec<f64>], weights: [&[f64]; N_NODES], nodes: &[Row; N_NODES]) {
+fn interpolate_channels(
+    data: &mut [Vec<f64>],
+    weights: &[WeightBlock],
+    n: usize,
+    room: usize,
+    nodes: &[Row; N_NODES],
+) {
     #[cfg(target_arch = "x86_64")]
     if std::arch::is_x86_feature_detected!("avx2") {
         // SAFETY: the processor has AVX2 (checked just above).
-        return unsafe { interpolate_channels_avx2(data, weights, nodes) };
+        return unsafe { interpolate_channels_avx2(data, weights, n, room, nodes) };
     }
-    interpolate_channels_baseline(data, weights, nodes)
+    interpolate_channels_baseline(data, weights, n, room, nodes)
 }
 
-/// [`interpolate_channels`] compiled for AVX2.
+/// [`interpolate_channels`] with AVX2 instructions: a block of samples per
+/// multiply and add (the same operations in the same order as the baseline:
+/// the products summed from node 0 to node 4, no fused multiply-add).
 ///
 /// # Safety
 /// The processor must support AVX2.
@@ -378,40 +413,82 @@ fn interpolate_channels(data: &mut [Vec<f64>], weights: [&[f64]; N_NODES], nodes
 #[target_feature(enable = "avx2")]
 unsafe fn interpolate_channels_avx2(
     data: &mut [Vec<f64>],
-    weights: [&[f64]; N_NODES],
+    weights: &[WeightBlock],
+    n: usize,
+    room: usize,
     nodes: &[Row; N_NODES],
 ) {
-    interpolate_channels_lanes(data, weights, nodes)
+    use std::arch::x86_64::{_mm256_add_pd, _mm256_loadu_pd, _mm256_mul_pd};
+    use std::arch::x86_64::{_mm256_set1_pd, _mm256_storeu_pd};
+    interpolate_channels_lanes(data, weights, n, room, nodes, |b, v, out| {
+        let product = |j: usize| {
+            // SAFETY: `b[j]` holds LANES = 4 values: one unaligned 256-bit load.
+            _mm256_mul_pd(
+                unsafe { _mm256_loadu_pd(b[j].as_ptr()) },
+                _mm256_set1_pd(v[j]),
+            )
+        };
+        let mut sum = product(0);
+        for j in 1..N_NODES {
+            sum = _mm256_add_pd(sum, product(j));
+        }
+        // SAFETY: `out` holds LANES = 4 elements: one unaligned 256-bit store.
+        unsafe { _mm256_storeu_pd(out.as_mut_ptr().cast(), sum) };
+    })
 }
 
-/// [`interpolate_channels`] compiled for the baseline of the target.
+/// [`interpolate_channels`] for the baseline of the target.
 fn interpolate_channels_baseline(
     data: &mut [Vec<f64>],
-    weights: [&[f64]; N_NODES],
+    weights: &[WeightBlock],
+    n: usize,
+    room: usize,
     nodes: &[Row; N_NODES],
 ) {
-    interpolate_channels_lanes(data, weights, nodes)
+    interpolate_channels_lanes(data, weights, n, room, nodes, |b, v, out| {
+        for (l, o) in out.iter_mut().enumerate() {
+            o.write(sample(b, l, v));
+        }
+    })
 }
 
+/// Sample `l` of a block: Σ_j b[j][l]·v[j], summed from node 0 to node 4.
+#[inline(always)]
+fn sample(b: &WeightBlock, l: usize, v: &[f64; N_NODES]) -> f64 {
+    b[0][l] * v[0] + b[1][l] * v[1] + b[2][l] * v[2] + b[3][l] * v[3] + b[4][l] * v[4]
+}
+
+/// The channel loop of [`interpolate_channels`]; `block` writes the
+/// [`LANES`] samples of one weight block for node values `v`.
 #[inline(always)]
 fn interpolate_channels_lanes(
     data: &mut [Vec<f64>],
-    weights: [&[f64]; N_NODES],
+    weights: &[WeightBlock],
+    n: usize,
+    room: usize,
     nodes: &[Row; N_NODES],
+    block: impl Fn(&WeightBlock, &[f64; N_NODES], &mut [MaybeUninit<f64>]),
 ) {
-    let n = weights[0].len();
-    let [w0, w1, w2, w3, w4] = weights;
+    assert!(weights.len() * LANES >= n && room >= n);
+    // Whole blocks: all of them when the room holds the last one whole.
+    let whole = if room >= weights.len() * LANES {
+        weights.len()
+    } else {
+        n / LANES
+    };
     for (c, d) in data.iter_mut().enumerate() {
         let v: [f64; N_NODES] = std::array::from_fn(|j| nodes[j][c]);
-        d.reserve(n);
-        let spare = &mut d.spare_capacity_mut()[..n];
+        let spare = &mut d.spare_capacity_mut()[..room];
         if v.iter().all(|x| x.to_bits() == v[0].to_bits()) {
-            spare.fill(std::mem::MaybeUninit::new(v[0]));
+            spare[..n].fill(MaybeUninit::new(v[0]));
             continue;
         }
-        let samples = w0.iter().zip(w1).zip(w2).zip(w3).zip(w4);
-        for (out, ((((p0, p1), p2), p3), p4)) in spare.iter_mut().zip(samples) {
-            out.write(p0 * v[0] + p1 * v[1] + p2 * v[2] + p3 * v[3] + p4 * v[4]);
+        let (blocks, rest) = spare.split_at_mut(whole * LANES);
+        for (out, b) in blocks.chunks_exact_mut(LANES).zip(weights) {
+            block(b, &v, out);
+        }
+        for (s, o) in (whole * LANES..n).zip(rest) {
+            o.write(sample(&weights[s / LANES], s % LANES, &v));
         }
     }
 }

@@ -219,40 +219,52 @@ fn avx2_and_baseline_interpolate_alike() {
     let thetas: Vec<f64> = (1..=13).map(|k| k as f64 / 13.0).collect();
     let columns: [Vec<f64>; N_NODES] =
         std::array::from_fn(|j| thetas.iter().map(|&t| lagrange_weights(t)[j]).collect());
-    let weights: [&[f64]; N_NODES] = std::array::from_fn(|j| columns[j].as_slice());
-    // The samples written into the spare capacity, then recorded.
-    let record = |data: &mut Vec<Vec<f64>>| {
-        for d in data {
-            // SAFETY: the interpolation wrote the first `thetas.len()`
-            // elements of the spare capacity.
-            unsafe { d.set_len(thetas.len()) };
-        }
-    };
-    let mut baseline = vec![Vec::new(); N_CHANNELS];
-    interpolate_channels_baseline(&mut baseline, weights, &nodes);
-    record(&mut baseline);
-    for (c, samples) in baseline.iter().enumerate() {
-        for (s, value) in samples.iter().enumerate() {
-            let w: [f64; N_NODES] = std::array::from_fn(|j| columns[j][s]);
-            let sum = w[0] * nodes[0][c]
-                + w[1] * nodes[1][c]
-                + w[2] * nodes[2][c]
-                + w[3] * nodes[3][c]
-                + w[4] * nodes[4][c];
-            let expected = if c % 4 == 1 { 42.0 } else { sum };
-            assert_eq!(
-                value.to_bits(),
-                expected.to_bits(),
-                "channel {c} sample {s}"
-            );
+    let mut weights = vec![[[0.0; LANES]; N_NODES]; thetas.len().div_ceil(LANES)];
+    for (s, &t) in thetas.iter().enumerate() {
+        for (j, w) in lagrange_weights(t).into_iter().enumerate() {
+            weights[s / LANES][j][s % LANES] = w;
         }
     }
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        let mut avx2 = vec![Vec::new(); N_CHANNELS];
-        // SAFETY: the processor has AVX2 (checked just above).
-        unsafe { interpolate_channels_avx2(&mut avx2, weights, &nodes) };
-        record(&mut avx2);
-        assert_eq!(avx2, baseline, "bit for bit (no NaN in these samples)");
+    let n = thetas.len();
+    // Room for exactly the samples (the last block sample by sample) and for
+    // the whole last block.
+    for room in [n, weights.len() * LANES] {
+        let empty =
+            || -> Vec<Vec<f64>> { (0..N_CHANNELS).map(|_| Vec::with_capacity(room)).collect() };
+        // The samples written into the spare capacity, then recorded.
+        let record = |data: &mut Vec<Vec<f64>>| {
+            for d in data {
+                // SAFETY: the interpolation wrote the first `n` elements of
+                // the spare capacity.
+                unsafe { d.set_len(n) };
+            }
+        };
+        let mut baseline = empty();
+        interpolate_channels_baseline(&mut baseline, &weights, n, room, &nodes);
+        record(&mut baseline);
+        for (c, samples) in baseline.iter().enumerate() {
+            for (s, value) in samples.iter().enumerate() {
+                let w: [f64; N_NODES] = std::array::from_fn(|j| columns[j][s]);
+                let sum = w[0] * nodes[0][c]
+                    + w[1] * nodes[1][c]
+                    + w[2] * nodes[2][c]
+                    + w[3] * nodes[3][c]
+                    + w[4] * nodes[4][c];
+                let expected = if c % 4 == 1 { 42.0 } else { sum };
+                assert_eq!(
+                    value.to_bits(),
+                    expected.to_bits(),
+                    "room {room}, channel {c} sample {s}"
+                );
+            }
+        }
+        #[cfg(target_arch = "x86_64")]
+        if std::arch::is_x86_feature_detected!("avx2") {
+            let mut avx2 = empty();
+            // SAFETY: the processor has AVX2 (checked just above).
+            unsafe { interpolate_channels_avx2(&mut avx2, &weights, n, room, &nodes) };
+            record(&mut avx2);
+            assert_eq!(avx2, baseline, "room {room}: bit for bit (no NaN here)");
+        }
     }
 }
