@@ -12,7 +12,8 @@ use serde::Serialize;
 
 use crate::manoeuvre::SpeedController;
 use crate::model::{
-    Commands, Prepared, SteerAngles, VX, VY, YAW_RATE, evaluate_prepared, straight_running,
+    Commands, Evaluation, Prepared, SteerAngles, VX, VY, YAW_RATE, evaluate_prepared_into,
+    straight_running,
 };
 use crate::params::Vehicle;
 use crate::sim::{InputSource, SimError, Simulation, SolverKind, SolverSettings};
@@ -430,22 +431,24 @@ pub fn run(vehicle: &Vehicle, options: BenchOptions) -> Result<BenchReport, SimE
 
 /// Mean wall and CPU time of one derivative evaluation near `state`, ns:
 /// the inner loop as the solver calls it (vehicle prepared once, steering
-/// angles of the held command computed once).
+/// angles of the held command computed once, evaluated in place).
 fn ns_per_derivative(bench: &Bench, state: &crate::model::State) -> (f64, f64) {
     let n = 50_000;
     let prepared = Prepared::new(bench.vehicle);
     let steer = SteerAngles::new(bench.vehicle, bench.commands.steer_wheel_angle);
     let mut x = *state;
+    let mut e = Evaluation::default();
     let (acc, wall, cpu) = timed(|| {
         let mut acc = 0.0;
         for i in 0..n {
             x[VY] = state[VY] + 1e-12 * (i % 7) as f64;
-            let e = evaluate_prepared(
+            evaluate_prepared_into(
                 bench.vehicle,
                 &prepared,
                 &steer,
                 std::hint::black_box(&x),
                 &bench.commands,
+                &mut e,
             );
             acc += e.derivative[YAW_RATE];
         }
