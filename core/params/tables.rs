@@ -49,7 +49,7 @@ pub struct Map {
     pub x: Vec<f64>,
     /// Second-axis breakpoints, strictly increasing (torques in N·m).
     pub y: Vec<f64>,
-    /// Values, row-major: `z[i * y.len() + j]` at (x[i], y[j]).
+    /// Values, row-major: `z[i * y.len() + j]` at (`x[i]`, `y[j]`).
     pub z: Vec<f64>,
 }
 

@@ -27,7 +27,7 @@ pub struct HeatMap<'a> {
     /// y value, each row as long as `x`. Non-finite values are drawn as grey
     /// "no data" cells.
     pub z: &'a [Vec<f64>],
-    /// Title (with unit) of the colour bar, e.g. "yaw damping ratio [1]".
+    /// Title (with unit) of the colour bar, e.g. "yaw damping ratio \[1\]".
     pub z_label: &'a str,
     /// Cells to mark, in the same layout as `z` (`highlight[j][i]`), or `None`.
     pub highlight: Option<&'a [Vec<bool>]>,

@@ -12,7 +12,7 @@ use super::{PlotError, Series};
 const MARK_UP_TO: usize = 60;
 
 /// Writes a handling diagram to the SVG file `path`: a steer angle (deg) on
-/// y, titled `y_label` (e.g. "road-wheel angle [deg]"), against lateral
+/// y, titled `y_label` (e.g. "road-wheel angle \[deg\]"), against lateral
 /// acceleration (g) on x, from a steady-state run such as a constant-radius
 /// or slow steer-ramp run (ISO 4138). The samples, labelled "simulation",
 /// are joined by a line, with markers when there are few of them (60 or

@@ -8,7 +8,7 @@
 //! | script operations, whole run | [`DEFAULT_MAX_OPERATIONS`] | at every operation (top level, controllers, `evaluate`) |
 //! | wall-clock time, whole run | [`DEFAULT_MAX_WALL_S`] | every tick and every 1024 operations |
 //! | memory of the samples | [`DEFAULT_MAX_SAMPLE_BYTES`] | before each phase, for its planned end |
-//! | memory of script values | [`MAX_SCRIPT_BYTES`] | at every operation ([`memory`](super::memory)) |
+//! | memory of script values | [`MAX_SCRIPT_BYTES`] | at every operation (`memory`) |
 //!
 //! [`Limits`] holds the numbers (the caller may change all but the script
 //! memory); [`Budget`] counts what a run has spent and records the first

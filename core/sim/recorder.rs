@@ -76,7 +76,7 @@ pub const CHECK_POINT: f64 = 0.5 * (NODES[1] + NODES[2]);
 /// by one.
 ///
 /// On x86-64 processors with AVX2 the same code runs compiled for it, chosen
-/// at run time as for [`interpolate_channels`]; both builds do the same IEEE
+/// at run time as for the interpolation of samples; both builds do the same IEEE
 /// operations in the same order (no fused multiply-add), so they give the
 /// same answer (test `avx2_and_baseline_check_alike`).
 pub fn interpolation_holds(nodes: &[Row; N_NODES], exact: &Row, tolerance: f64) -> bool {

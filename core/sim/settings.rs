@@ -13,7 +13,7 @@ pub enum SolverKind {
     Dop853,
     /// Classical fourth-order Runge–Kutta with a fixed step.
     Rk4,
-    /// Additive Runge–Kutta 4(3) (ARK4(3)6L[2]SA), adaptive: the wheels'
+    /// Additive Runge–Kutta 4(3) (ARK4(3)6L\[2\]SA), adaptive: the wheels'
     /// spin and slip equations implicit, the rest explicit.
     Ark436,
 }

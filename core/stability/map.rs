@@ -15,12 +15,12 @@
 //!   `yaw_damping_ratio` (1), `yaw_frequency_hz` (Hz), `max_real_part`
 //!   (1/s), `lat_accel` (m/s^2, the trimmed or largest reachable ay).
 //!   Values with no meaning (no trim) are NaN. Each has the attributes
-//!   `units` and `dimensions` (text [2]: the axis datasets of its dimensions
+//!   `units` and `dimensions` (text \[2\]: the axis datasets of its dimensions
 //!   in storage order, `["axis_1", "axis_0"]`; `["", "axis_0"]` with one
 //!   axis), in place of HDF5 dimension scales (which need the HDF5
 //!   high-level library);
 //! - `/provenance/vehicle_toml` (the vehicle file's text, before overrides),
-//!   `/provenance/overrides` (text [o], the `--set` overrides in order);
+//!   `/provenance/overrides` (text \[o\], the `--set` overrides in order);
 //! - `/fixed_conditions/<key>`: one f64 scalar per condition held fixed over
 //!   the map (`speed_kph`, `lat_accel_g`, `long_accel_g`, `front_share`),
 //!   attribute `units`.

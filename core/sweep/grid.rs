@@ -123,7 +123,7 @@ pub struct Grid {
 
 impl Grid {
     /// A grid over `axes`; refuses an empty list, a key given twice, and
-    /// grids with more than [`MAX_CASES`] cases.
+    /// grids with more than `MAX_CASES` cases.
     pub fn new(axes: Vec<VaryAxis>) -> Result<Grid, SweepError> {
         if axes.is_empty() {
             return Err(SweepError::Vary {

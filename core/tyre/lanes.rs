@@ -17,7 +17,7 @@
 //!    functions on 16 more lanes).
 //!
 //! Branches of the reference become selects; atan, sin, cos and exp are the
-//! branch-free approximations of [`super::approx`]. Where the reference writes
+//! branch-free approximations of `tyre::approx`. Where the reference writes
 //! cos(atan y), this uses the identity 1/√(1 + y²). The results equal the
 //! reference's to rounding: within 1e-12 of the peak force D + |SV| of each
 //! direction over a grid of slips, loads and cambers, both combined-slip

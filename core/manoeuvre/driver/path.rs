@@ -196,7 +196,7 @@ impl DoubleLaneChange {
     }
 }
 
-/// Reference path for [`PathFollower`].
+/// Reference path for [`PathFollower`](super::PathFollower).
 #[derive(Debug, Clone, PartialEq)]
 pub enum Path {
     /// Straight line through (`x`, `y`) (m) with `heading` (rad); s = 0 at
