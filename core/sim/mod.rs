@@ -73,7 +73,9 @@ pub use settings::{SolverKind, SolverSettings};
 use std::cell::Cell;
 use std::sync::Arc;
 
-use crate::model::{Commands, Evaluation, Pose, Prepared, STATE_NAMES, State, SteerAngles};
+use crate::model::{
+    Commands, Derived, Evaluation, Pose, Prepared, STATE_NAMES, State, SteerAngles,
+};
 use crate::params::Vehicle;
 use crate::results::{Channel, Provenance, RunRecord, RunStatus};
 use continuous::Continuous;
@@ -305,9 +307,14 @@ impl Simulation {
         }
         let ark = settings.kind == SolverKind::Ark436;
         let continuous = (settings.kind == SolverKind::Dopri5 || ark).then(|| {
-            // Any outputs do for the scratch: the initial state coasting.
-            let neutral = Commands::neutral(&vehicle);
-            let scratch = Outputs::compute(&vehicle, 0.0, &initial, &neutral, &Pose::of(&initial));
+            // Any outputs do for the scratch: it is overwritten before use.
+            let scratch = Outputs {
+                time: 0.0,
+                state: initial,
+                commands: Commands::neutral(&vehicle),
+                evaluation: Evaluation::default(),
+                derived: Derived::default(),
+            };
             Box::new(Continuous::new(
                 0.0,
                 initial,
